@@ -1,0 +1,34 @@
+# nestfit: the two set-up commands are `make demo` and `make test`.
+PYTHON ?= python3
+VENV := .venv
+PY := $(VENV)/bin/python
+STAMP := $(VENV)/.installed
+
+.PHONY: demo test test-fast check bench clean install
+
+$(STAMP): pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install -q --upgrade pip
+	$(PY) -m pip install -q -e ".[test,dev,plot]"
+	touch $(STAMP)
+
+install: $(STAMP)
+
+demo: $(STAMP)
+	$(VENV)/bin/nestfit demo
+
+test: $(STAMP)
+	$(PY) -m pytest -q
+
+test-fast: $(STAMP)
+	$(PY) -m pytest -q -m "not slow"
+
+check: $(STAMP)
+	$(VENV)/bin/ruff check src tests benchmarks examples tools
+	$(VENV)/bin/mypy
+
+bench: $(STAMP)
+	$(PY) benchmarks/run.py
+
+clean:
+	rm -rf $(VENV) build dist src/*.egg-info .pytest_cache .mypy_cache .ruff_cache
