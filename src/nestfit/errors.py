@@ -55,11 +55,20 @@ class ParseError(NestfitError, ValueError):
         The text that was being parsed.
     position : int
         Zero-based offset of the offending character.
+    reason : str
+        The message without the caret lines.
     """
+
+    def one_line(self) -> str:
+        """The message on one line, with the position in words."""
+        if self.text and self.position >= 0:
+            return f"{self.reason} (at character {self.position + 1} of {self.text!r})"
+        return self.reason
 
     def __init__(self, message: str, text: str = "", position: int = -1) -> None:
         self.text = text
         self.position = position
+        self.reason = message
         if text and position >= 0:
             message = f"{message}\n    {text}\n    {' ' * position}^"
         super().__init__(message)

@@ -1,0 +1,134 @@
+"""Group sums for designs whose rows are determined by one factor.
+
+When every design row is the coding-matrix row of its observation's level,
+``X = C[codes]``, least squares splits into two exact pieces (common
+practice, no source; see e.g. Searle, *Linear Models*, 1971, sec. 6.2, from
+memory):
+
+* the within-group sum of squares ``W = sum_g sum_{i in g} w_i (y_i - m_g)^2``
+  around the (weighted) group means ``m_g``, which no such model can reduce;
+* a small weighted least-squares problem on the ``k`` group means,
+  ``min_b sum_g W_g (m_g - c_g b)^2`` with ``W_g = sum_{i in g} w_i``, whose
+  normal matrix ``C' diag(W_g) C`` equals ``X' W X``.
+
+The residual sum of squares is ``W`` plus the residual of the small problem.
+The dense ``n x p`` matrix is never built: the cost is a few passes of
+``numpy.bincount`` over the data.
+
+The group means are computed in two passes with a correction (Chan, Golub &
+LeVeque 1983, "Algorithms for computing the sample variance", The American
+Statistician 37(3), eq. 1.7, the "corrected two-pass algorithm"): the first
+pass gives ``m_g``; the second gives the deviations ``d_i = y_i - m_g``,
+their sum (the correction to the mean) and their squares.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from nestfit.errors import DataError
+
+__all__ = ["GroupSums", "group_sums"]
+
+
+@dataclass(frozen=True)
+class GroupSums:
+    """Per-group totals from one factor.
+
+    Attributes
+    ----------
+    counts : ndarray of int, shape (k,)
+        Observations per group.
+    weight_totals : ndarray, shape (k,)
+        ``W_g``, the sum of weights per group (equal to ``counts`` without weights).
+    means : ndarray, shape (k,)
+        Weighted group means ``m_g``.
+    within_ss : ndarray, shape (k,)
+        ``sum_{i in g} w_i (y_i - m_g)^2`` for each group.
+    shift : float
+        The constant ``c`` subtracted from ``y`` first: ``means`` are the means
+        of ``y - c``. Group means far from zero cannot be stored to more than
+        about 16 significant digits, which would cost digits of the
+        between-groups sum of squares; the differences ``y_i - c`` are exact
+        when ``c/2 <= y_i <= 2c`` (Sterbenz's lemma; Higham, *Accuracy and
+        Stability of Numerical Algorithms*, 2nd ed., 2002, theorem 2.5).
+    """
+
+    counts: np.ndarray
+    weight_totals: np.ndarray
+    means: np.ndarray
+    within_ss: np.ndarray
+    shift: float = 0.0
+
+    @property
+    def total_within_ss(self) -> float:
+        """Pooled within-group sum of squares (accurately summed)."""
+        return float(np.sum(np.sort(self.within_ss)))
+
+
+def group_sums(
+    codes: np.ndarray,
+    y: np.ndarray,
+    n_groups: int,
+    weights: np.ndarray | None = None,
+    *,
+    shift: float | None = None,
+) -> GroupSums:
+    """Corrected two-pass group means and within-group sums of squares.
+
+    Parameters
+    ----------
+    codes : ndarray of intp, shape (n,)
+        Group index ``0 <= codes[i] < n_groups`` of each observation.
+    y : ndarray of float, shape (n,)
+        Response.
+    n_groups : int
+        Number of groups ``k``; every group must have an observation.
+    weights : ndarray, optional
+        Positive finite case weights.
+    shift : float, optional
+        Constant subtracted from ``y`` before summing; default the mean of ``y``.
+
+    Returns
+    -------
+    GroupSums
+
+    Notes
+    -----
+    With ``d_i = y_i - m_g`` from the first-pass mean, the corrected mean is
+    ``m_g + S_g / W_g`` with ``S_g = sum w_i d_i`` and the within sum of squares
+    is ``sum w_i d_i^2 - S_g^2 / W_g`` (Chan, Golub & LeVeque 1983, eq. 1.7).
+    """
+    codes = np.asarray(codes, dtype=np.intp)
+    y = np.asarray(y, dtype=np.float64)
+    if codes.shape != y.shape or y.ndim != 1:
+        raise DataError(f"codes has shape {codes.shape} but y has shape {y.shape}")
+    counts = np.bincount(codes, minlength=n_groups)
+    if counts.size != n_groups or np.any(counts == 0):
+        raise DataError("every group needs at least one observation")
+    c = float(np.mean(y)) if shift is None else float(shift)
+    if not np.isfinite(c):
+        raise DataError("the response has NaN or infinite values")
+    dev = np.subtract(y, c)
+    if weights is None:
+        totals = counts.astype(np.float64)
+        means = np.bincount(codes, weights=dev, minlength=n_groups) / totals
+        gathered = means[codes]
+        np.subtract(dev, gathered, out=dev)
+        del gathered
+        correction = np.bincount(codes, weights=dev, minlength=n_groups)
+        np.multiply(dev, dev, out=dev)
+        sq = np.bincount(codes, weights=dev, minlength=n_groups)
+    else:
+        w = np.asarray(weights, dtype=np.float64)
+        totals = np.bincount(codes, weights=w, minlength=n_groups)
+        means = np.bincount(codes, weights=w * dev, minlength=n_groups) / totals
+        dev -= means[codes]
+        correction = np.bincount(codes, weights=w * dev, minlength=n_groups)
+        sq = np.bincount(codes, weights=w * dev * dev, minlength=n_groups)
+    means = means + correction / totals
+    within = np.maximum(sq - correction * correction / totals, 0.0)
+    return GroupSums(counts=counts, weight_totals=totals, means=means, within_ss=within,
+                     shift=c)
