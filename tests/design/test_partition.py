@@ -17,7 +17,7 @@ LEVELS = ("A", "B", "C", "D")
     [
         ("A | B C D", (("A",), ("B", "C", "D"))),
         ("A,B | C, D", (("A", "B"), ("C", "D"))),
-        ("C | ...", (("A", "B", "D"), ("C",))),  # blocks are ordered by first level
+        ("C | ...", (("C",), ("A", "B", "D"))),  # blocks keep the order given
         ("A | B | C | D", (("A",), ("B",), ("C",), ("D",))),
         ("A B C D", (("A", "B", "C", "D"),)),
         ("...", (("A", "B", "C", "D"),)),
@@ -63,8 +63,8 @@ def test_parse_error_points_at_position() -> None:
 
 def test_mapping_and_labels() -> None:
     p = Partition.from_mapping({"serviced": ["C"], "rest": ["A", "B", "D"]}, LEVELS)
-    assert p.blocks == (("A", "B", "D"), ("C",))
-    assert p.block_labels == ("rest", "serviced")
+    assert p.blocks == (("C",), ("A", "B", "D"))
+    assert p.block_labels == ("serviced", "rest")
 
 
 def test_refinement_order() -> None:

@@ -40,8 +40,9 @@ class Partition:
     levels : tuple of str
         The factor's levels, in order.
     block_of : ndarray of intp, shape (k,)
-        ``block_of[j]`` is the block index of level ``j``. Blocks are numbered
-        in order of their first level.
+        ``block_of[j]`` is the block index of level ``j``. Blocks keep the
+        order in which they were given; two partitions are equal when they
+        group the levels the same way, whatever the block order.
     block_labels : tuple of str
         One label per block (its levels joined by spaces, unless given).
 
@@ -119,7 +120,7 @@ class Partition:
             if len(labels) != len(blocks):
                 raise FactorError(f"{len(labels)} block labels given for {len(blocks)} blocks")
             names = [str(x) for x in labels]
-        return cls._canonical(lv, block_of, names)
+        return cls(lv, block_of, tuple(names))
 
     @classmethod
     def from_mapping(cls, mapping: Mapping[str, Iterable[str]], levels: Sequence[str]) -> Partition:
@@ -157,18 +158,6 @@ class Partition:
                 raise FactorError(f"'...' in {spec!r} stands for no level: every level is named")
             blocks.append(items)
         return cls.from_blocks(blocks, lv)
-
-    @classmethod
-    def _canonical(cls, levels: tuple[str, ...], block_of: np.ndarray, names: list[str]) -> Partition:
-        # Renumber blocks in order of their first level so equal partitions compare equal.
-        order: dict[int, int] = {}
-        for b in block_of:
-            order.setdefault(int(b), len(order))
-        new = np.array([order[int(b)] for b in block_of], dtype=np.intp)
-        labels = [""] * len(order)
-        for old, pos in order.items():
-            labels[pos] = names[old]
-        return cls(levels, new, tuple(labels))
 
     # ------------------------------------------------------------ queries
     @property
@@ -214,15 +203,20 @@ class Partition:
         ]
         return "levels share a mean within each block: " + " ".join(parts)
 
+    def _grouping(self) -> tuple[int, ...]:
+        """Block indices renumbered by first appearance: equal for equal groupings."""
+        order: dict[int, int] = {}
+        return tuple(order.setdefault(b, len(order)) for b in self.block_of.tolist())
+
     def __eq__(self, other: object) -> bool:
         return (
             isinstance(other, Partition)
             and self.levels == other.levels
-            and np.array_equal(self.block_of, other.block_of)
+            and self._grouping() == other._grouping()
         )
 
     def __hash__(self) -> int:
-        return hash((self.levels, tuple(self.block_of.tolist())))
+        return hash((self.levels, self._grouping()))
 
     def __repr__(self) -> str:
         return f"Partition({self.to_spec()!r})"

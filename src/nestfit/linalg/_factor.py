@@ -29,6 +29,7 @@ An all-zero column is always aliased.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import scipy.linalg
@@ -43,7 +44,7 @@ IntArray = NDArray[np.intp]
 BoolArray = NDArray[np.bool_]
 
 
-def _readonly(arr: NDArray) -> NDArray:  # type: ignore[type-arg]
+def _readonly(arr: NDArray[Any]) -> NDArray[Any]:
     arr.setflags(write=False)
     return arr
 
@@ -165,14 +166,19 @@ class QRFactor:
         return self._unweight(u - self._perp(u), np.ndim(v))
 
     def project_out(self, v: ArrayLike) -> FloatArray:
-        """``v - P_W v``: the part of ``v`` W-orthogonal to the column space (see :meth:`project`)."""
+        """``v - P_W v``, the part of ``v`` W-orthogonal to the column space.
+
+        Computed as ``W^(-1/2) (u - Q Q' u)``, ``u = W^(1/2) v``, with two
+        Gram-Schmidt passes (see :meth:`project`).
+        """
         u = self._weighted(v)
         return self._unweight(self._perp(u), np.ndim(v))
 
     def relative_distance(self, v: ArrayLike) -> FloatArray:
-        """``||W^(1/2)(v - P_W v)|| / ||W^(1/2) v||`` for each column of ``v`` (0 for a zero column).
+        """Relative distance ``||W^(1/2)(v - P_W v)|| / ||W^(1/2) v||`` of each column of ``v``.
 
-        The sine of the angle between ``v`` and the column space in the W inner product.
+        The sine of the angle between ``v`` and the column space in the W inner
+        product; 0 for an all-zero column.
         """
         u = self._weighted(v)
         res = self._perp(u)

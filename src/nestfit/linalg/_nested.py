@@ -19,6 +19,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import scipy.linalg
@@ -27,8 +28,9 @@ from numpy.typing import ArrayLike, NDArray
 from nestfit.errors import DataError
 from nestfit.linalg._factor import QRFactor, column_scales, factorize
 from nestfit.linalg._precision import accurate_sum, accurate_sum_of_squares
-from nestfit.linalg._qr import LeastSquares, constant_tolerance
+from nestfit.linalg._qr import LeastSquares
 from nestfit.linalg._refine import Refiner
+from nestfit.linalg._solve import constant_tolerance
 from nestfit.linalg._validate import as_matrix, as_rank_tol, as_vector, as_weights
 
 __all__ = ["SequentialSS", "column_space_residual", "is_nested", "sequential_ss"]
@@ -38,7 +40,7 @@ IntArray = NDArray[np.intp]
 BoolArray = NDArray[np.bool_]
 
 
-def _readonly(arr: NDArray) -> NDArray:  # type: ignore[type-arg]
+def _readonly(arr: NDArray[Any]) -> NDArray[Any]:
     arr.setflags(write=False)
     return arr
 

@@ -36,8 +36,8 @@ from numpy.typing import ArrayLike, NDArray
 
 from nestfit.errors import DataError, RankDeficiencyWarning
 from nestfit.linalg._factor import QRFactor, factorize
-from nestfit.linalg._precision import EXTENDED_METHOD, Method, accurate_sum, accurate_sum_of_squares
-from nestfit.linalg._refine import Refiner
+from nestfit.linalg._precision import EXTENDED_METHOD, Method, accurate_sum_of_squares
+from nestfit.linalg._solve import solve_response
 from nestfit.linalg._validate import (
     as_column_names,
     as_matrix,
@@ -52,21 +52,9 @@ FloatArray = NDArray[np.float64]
 IntArray = NDArray[np.intp]
 BoolArray = NDArray[np.bool_]
 
-_EPS = float(np.finfo(np.float64).eps)
-
-
 def _readonly(arr: FloatArray) -> FloatArray:
     arr.setflags(write=False)
     return arr
-
-
-def constant_tolerance(n: int, p: int) -> float:
-    """Relative distance below which the constant counts as lying in the column space.
-
-    ``32 * sqrt(max(n, p)) * eps``: a small multiple of the rounding error of two
-    Gram-Schmidt passes against an orthonormal Q (Giraud, Langou & Rozložník 2005).
-    """
-    return 32.0 * math.sqrt(max(n, p)) * _EPS
 
 
 @dataclass(frozen=True, eq=False)
@@ -194,7 +182,10 @@ class LeastSquares:
         return tuple(f"column {i}" for i in idx)
 
     def project(self, v: ArrayLike) -> FloatArray:
-        """W-orthogonal projection onto the column space of the design (:meth:`QRFactor.project`)."""
+        """W-orthogonal projection on the column space of the design.
+
+        See :meth:`QRFactor.project`.
+        """
         return self.factor.project(v)
 
 
@@ -298,31 +289,8 @@ def least_squares(
     factor = factorize(x, w, as_rank_tol(rank_tol, n, p))
     sw = factor.sqrt_weights
     rank = factor.rank
-
-    centered = False
-    offset = 0.0
-    if rank > 0:
-        dist = float(factor.relative_distance(np.ones(n))[0])
-        centered = dist <= constant_tolerance(n, p)
-    refiner = Refiner(factor.a, factor.q, factor.r, method)
-    yw = (sw * yv)[:, None]
-    if centered:
-        wv = w if w is not None else np.ones(n)
-        # weighted mean, correctly rounded sums (any m works: b is linear in y)
-        offset = accurate_sum(wv * yv) / accurate_sum(wv)
-        rhs = np.column_stack([sw * (yv - offset), sw])
-        c_all, res_all, steps = refiner.solve(rhs, int(refine))
-        res_w = res_all[:, :1]
-        # b(y) = b(y - m) + m b(1), then recover the digits the sum loses to
-        # cancellation (|b_0| << |m|) by refining against y itself, residual fixed.
-        c_start = c_all[:, :1] + offset * c_all[:, 1:]
-        c_fin, _ = refiner.polish(yw, res_w, c_start, int(refine))
-        c = c_fin[:, 0]
-        res_w = res_w[:, 0]
-    else:
-        c_all, res_all, steps = refiner.solve(yw, int(refine))
-        c = c_all[:, 0]
-        res_w = res_all[:, 0]
+    sol = solve_response(factor, x, yv, w, int(refine), method)
+    c, res_w = sol.c, sol.residual_w
 
     retained = factor.retained
     coef = np.full(p, np.nan)
@@ -344,9 +312,9 @@ def least_squares(
         residual_ss=accurate_sum_of_squares(res_w),
         cov_unscaled=_readonly(cov),
         leverages=_readonly(leverages),
-        refinement_steps=steps,
-        centered=centered,
-        offset=float(offset),
+        refinement_steps=sol.steps,
+        centered=sol.centered,
+        offset=sol.offset,
         column_names=names,
     )
     if warn and rank < p:
