@@ -65,7 +65,7 @@ def check_missing_policy(missing: str) -> MissingPolicy:
 
 def _is_missing(col: pd.Series) -> np.ndarray:
     miss = col.isna().to_numpy()
-    if col.dtype == object:
+    if col.dtype == object or pd.api.types.is_string_dtype(col):
         text = col.astype(str).str.strip()
         miss = miss | (text == "").to_numpy()
     return np.asarray(miss, dtype=bool)
@@ -120,8 +120,9 @@ def clean_columns(
     frame = data.loc[:, used].copy()
     for name in numeric:
         col = frame[name]
+        textual = col.dtype == object or pd.api.types.is_string_dtype(col)
         if isinstance(col.dtype, pd.CategoricalDtype) or not (
-            pd.api.types.is_numeric_dtype(col) or col.dtype == object
+            pd.api.types.is_numeric_dtype(col) or textual
         ) or pd.api.types.is_bool_dtype(col):
             raise ColumnError(
                 f"column {name!r} must be numeric, but it has dtype {col.dtype}; "

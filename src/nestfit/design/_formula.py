@@ -140,6 +140,11 @@ def design_from_formula(
         y_mat, x_mat = patsy.dmatrices(formula, frame, NA_action="raise", eval_env=env,
                                        return_type="matrix")
     except patsy.PatsyError as exc:
+        if "NameError" in str(exc):
+            raise ColumnError(
+                f"formula {formula!r} names something unknown (neither a column of the data "
+                f"nor a function in scope):\n{exc}"
+            ) from None
         raise ModelError(f"formula {formula!r} could not be built:\n{exc}") from None
     except NameError as exc:
         raise ColumnError(f"formula {formula!r} names something unknown: {exc}") from None

@@ -17,8 +17,8 @@ sequential_ss, SequentialSS
     Extra sums of squares of a chain of prefix models from one factorisation.
 group_sums, GroupSums
     Per-group totals for one-factor designs (:mod:`._groups`).
-EXTENDED_METHOD
-    How extended-precision residuals are computed on this platform.
+LONGDOUBLE_IS_EXTENDED
+    Whether ``least_squares(..., extended="longdouble")`` is available here.
 """
 
 from __future__ import annotations
@@ -26,11 +26,11 @@ from __future__ import annotations
 from nestfit.linalg._factor import QRFactor, qr_factor
 from nestfit.linalg._groups import GroupSums, group_sums
 from nestfit.linalg._nested import SequentialSS, column_space_residual, is_nested, sequential_ss
-from nestfit.linalg._precision import EXTENDED_METHOD
+from nestfit.linalg._precision import LONGDOUBLE_IS_EXTENDED
 from nestfit.linalg._qr import LeastSquares, least_squares
 
 __all__ = [
-    "EXTENDED_METHOD",
+    "LONGDOUBLE_IS_EXTENDED",
     "GroupSums",
     "LeastSquares",
     "QRFactor",

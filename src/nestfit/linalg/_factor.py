@@ -81,8 +81,11 @@ class QRFactor:
         scaled* design, first ``rank`` columns.
     r : ndarray, shape (rank, rank)
         Upper-triangular ``R11`` with ``a = q @ r``.
-    a : ndarray, shape (n, rank)
-        The retained columns of ``A`` in pivot order, ``A[:, pivots[:rank]]``.
+    x_scaled : ndarray, shape (n, rank)
+        The retained columns of ``X D^(-1)`` (unweighted) in pivot order, so that
+        ``A[:, pivots[:rank]] = diag(sqrt_weights) @ x_scaled = q @ r`` to
+        working precision. Refinement evaluates residuals with these exact
+        columns and applies the weights in extended precision.
     pivots : ndarray of int, shape (p,)
         Column permutation from the pivoted QR; ``pivots[:rank]`` are retained,
         ``pivots[rank:]`` aliased.
@@ -107,7 +110,7 @@ class QRFactor:
 
     q: FloatArray
     r: FloatArray
-    a: FloatArray
+    x_scaled: FloatArray
     pivots: IntArray
     rank: int
     scale: FloatArray
@@ -227,12 +230,12 @@ def factorize(x: FloatArray, w: FloatArray | None, rank_tol: float) -> QRFactor:
     piv = np.asarray(piv, dtype=np.intp)
     q = np.ascontiguousarray(q_all[:, :rank])
     r = np.triu(r_all[:rank, :rank])
-    a = np.ascontiguousarray(a_full[:, piv[:rank]])
+    x_scaled = np.ascontiguousarray(x[:, piv[:rank]] / scale[piv[:rank]])
     condition = float(np.linalg.cond(r)) if rank else float("nan")
     return QRFactor(
         q=_readonly(q),
         r=_readonly(r),
-        a=_readonly(a),
+        x_scaled=_readonly(x_scaled),
         pivots=_readonly(piv),
         rank=rank,
         scale=_readonly(scale),

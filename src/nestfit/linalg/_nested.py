@@ -19,7 +19,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 import scipy.linalg
@@ -28,7 +28,7 @@ from numpy.typing import ArrayLike, NDArray
 from nestfit.errors import DataError
 from nestfit.linalg._factor import QRFactor, column_scales, factorize
 from nestfit.linalg._precision import accurate_sum, accurate_sum_of_squares
-from nestfit.linalg._qr import LeastSquares
+from nestfit.linalg._qr import LeastSquares, extended_method
 from nestfit.linalg._refine import Refiner
 from nestfit.linalg._solve import constant_tolerance
 from nestfit.linalg._validate import as_matrix, as_rank_tol, as_vector, as_weights
@@ -241,6 +241,7 @@ def sequential_ss(
     weights: ArrayLike | None = None,
     rank_tol: float | None = None,
     refine: int = 2,
+    extended: Literal["compensated", "longdouble"] = "compensated",
 ) -> SequentialSS:
     """Residual and extra sums of squares of the chain of models built from column blocks.
 
@@ -270,6 +271,8 @@ def sequential_ss(
         design, which is ``|R[0, 0]|`` of a single pivoted QR.
     refine : int, default 2
         Refinement steps per model.
+    extended : {"compensated", "longdouble"}, default "compensated"
+        Extended-precision scheme for the refinement (see :func:`least_squares`).
 
     Returns
     -------
@@ -291,15 +294,17 @@ def sequential_ss(
     rel_tol = as_rank_tol(rank_tol, n, p)
     if isinstance(refine, bool) or not isinstance(refine, (int, np.integer)) or refine < 0:
         raise DataError(f"refine must be a non-negative integer; got {refine!r}")
+    method = extended_method(extended)
 
     sw = np.sqrt(w) if w is not None else np.ones(n)
     xw = x * sw[:, None] if w is not None else x
-    a_full = xw / column_scales(xw)  # exact: powers of two
+    scale = column_scales(xw)
+    a_full = xw / scale  # exact: powers of two
     norms = np.linalg.norm(a_full, axis=0)
     tolerance = rel_tol * float(norms.max()) if p else 0.0
     q, r, kept = _block_qr(a_full, sizes, tolerance)
     order = np.concatenate(kept) if kept else np.zeros(0, dtype=np.intp)
-    a_ret = np.ascontiguousarray(a_full[:, order])
+    x_ret = np.ascontiguousarray(x[:, order] / scale[order])
     df = np.array([k.size for k in kept], dtype=np.intp)
     ends = np.cumsum(df)
 
@@ -319,8 +324,11 @@ def sequential_ss(
             for _ in range(2):
                 u = u - qj @ (qj.T @ u)
             centered[j] = float(np.linalg.norm(u) / np.linalg.norm(sw)) <= ctol
-        rhs = (sw * (yv - offset) if centered[j] else yw)[:, None]
-        _, res, _ = Refiner(a_ret[:, :end], qj, r[:end, :end]).solve(rhs, int(refine))
+        rhs = (yv - offset if centered[j] else yv)[:, None]
+        refiner = Refiner(
+            x_ret[:, :end], sw if w is not None else None, qj, r[:end, :end], method
+        )
+        _, res, _ = refiner.solve(rhs, int(refine))
         res_j = res[:, 0]
         proj = q[:, start:end].T @ prev_res
         extra[j] = accurate_sum_of_squares(proj)

@@ -36,7 +36,11 @@ from numpy.typing import ArrayLike, NDArray
 
 from nestfit.errors import DataError, RankDeficiencyWarning
 from nestfit.linalg._factor import QRFactor, factorize
-from nestfit.linalg._precision import EXTENDED_METHOD, Method, accurate_sum_of_squares
+from nestfit.linalg._precision import (
+    LONGDOUBLE_IS_EXTENDED,
+    Method,
+    accurate_sum_of_squares,
+)
 from nestfit.linalg._solve import solve_response
 from nestfit.linalg._validate import (
     as_column_names,
@@ -199,19 +203,18 @@ def _rank_message(factor: QRFactor, names: tuple[str, ...]) -> str:
     )
 
 
-def _extended_method(extended: str) -> Method:
-    if extended == "auto":
-        return EXTENDED_METHOD
-    if extended == "longdouble" and EXTENDED_METHOD != "longdouble":
-        raise DataError(
-            "extended='longdouble' needs a long double wider than float64, which this "
-            "platform lacks; use 'compensated' or 'auto'"
-        )
-    if extended in ("longdouble", "compensated"):
-        return extended  # type: ignore[return-value]
-    raise DataError(
-        f"extended must be 'auto', 'longdouble' or 'compensated'; got {extended!r}"
-    )
+def extended_method(extended: str) -> Method:
+    """Validate the ``extended`` argument of the public functions."""
+    if extended == "compensated":
+        return "compensated"
+    if extended == "longdouble":
+        if not LONGDOUBLE_IS_EXTENDED:
+            raise DataError(
+                "extended='longdouble' needs a long double wider than float64, which this "
+                "platform lacks; use extended='compensated'"
+            )
+        return "longdouble"
+    raise DataError(f"extended must be 'compensated' or 'longdouble'; got {extended!r}")
 
 
 def least_squares(
@@ -223,7 +226,7 @@ def least_squares(
     refine: int = 2,
     column_names: Sequence[str] | None = None,
     warn: bool = True,
-    extended: Literal["auto", "longdouble", "compensated"] = "auto",
+    extended: Literal["compensated", "longdouble"] = "compensated",
 ) -> LeastSquares:
     """Weighted least squares ``min_b sum_i w_i (y_i - x_i' b)^2`` by pivoted QR.
 
@@ -249,12 +252,12 @@ def least_squares(
         Column names, used in :meth:`LeastSquares.aliased_names` and warnings.
     warn : bool, default True
         Issue :class:`~nestfit.errors.RankDeficiencyWarning` when columns are aliased.
-    extended : {"auto", "longdouble", "compensated"}, default "auto"
-        How refinement residuals are computed in extended precision: numpy
-        ``longdouble`` (only where it is wider than float64), or error-free
-        compensated arithmetic in float64 (about twice the working precision,
-        identical on every platform, slower). ``"auto"`` takes ``"longdouble"``
-        where available, else ``"compensated"`` (see ``EXTENDED_METHOD``).
+    extended : {"compensated", "longdouble"}, default "compensated"
+        How refinement residuals are computed in extended precision:
+        error-free compensated arithmetic in float64 (about twice the working
+        precision, the same result on every platform), or ``numpy.longdouble``
+        (only where it is wider than float64, see ``LONGDOUBLE_IS_EXTENDED``;
+        11 more bits on x86-64). See :mod:`nestfit.linalg._precision`.
 
     Returns
     -------
@@ -285,7 +288,7 @@ def least_squares(
     names = as_column_names(column_names, p)
     if isinstance(refine, bool) or not isinstance(refine, (int, np.integer)) or refine < 0:
         raise DataError(f"refine must be a non-negative integer; got {refine!r}")
-    method = _extended_method(extended)
+    method = extended_method(extended)
     factor = factorize(x, w, as_rank_tol(rank_tol, n, p))
     sw = factor.sqrt_weights
     rank = factor.rank

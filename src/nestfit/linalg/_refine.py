@@ -1,7 +1,8 @@
 """Least-squares solution with iterative refinement of the augmented system.
 
 The least-squares problem ``min ||v - A c||`` (A of full column rank, here the
-retained columns of the weighted, scaled design) is equivalent to the augmented
+retained columns of the weighted, scaled design ``A = W^(1/2) X D^(-1)``,
+``v = W^(1/2) y``) is equivalent to the augmented
 system (Björck 1967)
 
     [ I   A ] [ r ]   [ v ]
@@ -49,31 +50,52 @@ def _solve_r(r: FloatArray, b: FloatArray, *, transpose: bool = False) -> FloatA
 
 
 class Refiner:
-    """Least-squares solves on ``a = q @ r`` with extended-precision refinement.
+    """Least-squares solves on ``A = diag(s) x = q @ r`` with extended-precision refinement.
 
     Parameters
     ----------
-    a : ndarray, shape (n, k)
-        Full-column-rank matrix (k may be 0).
+    x : ndarray, shape (n, k)
+        Unweighted, column-scaled retained columns (k may be 0).
+    row_scale : ndarray, shape (n,) or None
+        ``s = sqrt(w)``; ``None`` for an unweighted fit.
     q : ndarray, shape (n, k)
-        Orthonormal columns with ``a = q @ r``.
+        Orthonormal columns with ``A = q @ r`` (to working precision).
     r : ndarray, shape (k, k)
         Nonsingular upper-triangular factor.
     method : {"longdouble", "compensated"}, optional
         Extended-precision scheme (default: the platform's, see
         :mod:`nestfit.linalg._precision`).
+
+    Notes
+    -----
+    Right-hand sides are given *unweighted* (``u``, with ``v = diag(s) u``) so that
+    the weighting is applied in extended precision too.
     """
 
     def __init__(
-        self, a: FloatArray, q: FloatArray, r: FloatArray, method: Method | None = None
+        self,
+        x: FloatArray,
+        row_scale: FloatArray | None,
+        q: FloatArray,
+        r: FloatArray,
+        method: Method | None = None,
     ) -> None:
-        self.a, self.q, self.r = a, q, r
-        self.op = ExtendedOperator(a, method)
+        self.x, self.row_scale, self.q, self.r = x, row_scale, q, r
+        self.op = ExtendedOperator(x, row_scale, method)
 
-    def solve(self, v: FloatArray, refine: int) -> tuple[FloatArray, FloatArray, int]:
-        """Solve ``min ||v - a c||`` for each column of ``v`` (shape (n, m)).
+    @property
+    def k(self) -> int:
+        """Number of columns."""
+        return int(self.x.shape[1])
 
-        Plain QR ``c = R^(-1) Q' v`` with ``residual = v - a c`` in extended
+    def weighted(self, u: FloatArray) -> FloatArray:
+        """``diag(s) u`` in float64."""
+        return u if self.row_scale is None else self.row_scale[:, None] * u
+
+    def solve(self, u: FloatArray, refine: int) -> tuple[FloatArray, FloatArray, int]:
+        """Solve ``min ||v - A c||``, ``v = diag(s) u``, for each column of ``u`` (n, m).
+
+        Plain QR ``c = R^(-1) Q' v`` with ``residual = v - A c`` in extended
         precision, then up to ``refine`` steps of augmented-system refinement
         (module notes); the loop stops early when a step leaves both ``c`` and
         the residual unchanged in float64.
@@ -82,19 +104,19 @@ class Refiner:
         -------
         c : ndarray, shape (k, m)
         residual : ndarray, shape (n, m)
-            ``v - a @ c``, refined together with ``c``.
+            Weighted residual ``v - A c``, refined together with ``c``.
         steps : int
             Refinement steps performed.
         """
-        m = v.shape[1]
-        if self.a.shape[1] == 0:
-            return np.zeros((0, m)), v.copy(), 0
+        m = u.shape[1]
+        if self.k == 0:
+            return np.zeros((0, m)), self.weighted(u).copy(), 0
         q, r = self.q, self.r
-        c = _solve_r(r, q.T @ v)
-        res = self.op.residual(v, np.zeros_like(v), c)
+        c = _solve_r(r, q.T @ self.weighted(u))
+        res = self.op.residual(u, np.zeros_like(u), c)
         steps = 0
         for _ in range(refine):
-            f = self.op.residual(v, res, c)
+            f = self.op.residual(u, res, c)
             g = -self.op.rmatmul(res)
             h = _solve_r(r, g, transpose=True)
             f1 = q.T @ f
@@ -112,15 +134,15 @@ class Refiner:
         return c, res, steps
 
     def polish(
-        self, v: FloatArray, residual: FloatArray, c: FloatArray, refine: int
+        self, u: FloatArray, residual: FloatArray, c: FloatArray, refine: int
     ) -> tuple[FloatArray, int]:
-        """Refine ``c`` for ``v ~ a c + residual`` with a known accurate ``residual`` held fixed.
+        """Refine ``c`` for ``v ~ A c + residual`` with a known accurate ``residual`` held fixed.
 
         The solution half of an augmented-system step (module notes) with
         ``r = residual`` frozen: ``g = -A' r`` and ``h = R^(-T) g`` once, then
         per step ``f = v - r - A c`` (extended precision) and
         ``dc = R^(-1) (Q' f - h)``. Since ``v = A c* + r*`` with ``A' r* = 0``,
-        ``Q' f - h = R (c* - c) + Q' (r* - r) + R^(-T) A' (r - r*)`` and the last
+        ``Q' f - h = R (c* - c) - Q' (r - r*) + R^(-T) A' (r - r*)`` and the last
         two terms cancel when ``A = Q R`` exactly, so the fixed point is ``c*``
         whatever the rounding of ``r``. Used to recover the digits that
         ``c_centred + m * c_constant`` loses to cancellation.
@@ -130,12 +152,12 @@ class Refiner:
         c : ndarray, shape (k, m)
         steps : int
         """
-        if self.a.shape[1] == 0:
+        if self.k == 0:
             return c, 0
         h = _solve_r(self.r, -self.op.rmatmul(residual), transpose=True)
         steps = 0
         for _ in range(refine):
-            f = self.op.residual(v, residual, c)
+            f = self.op.residual(u, residual, c)
             new_c = c + _solve_r(self.r, self.q.T @ f - h)
             steps += 1
             unchanged = np.array_equal(new_c, c)

@@ -119,36 +119,38 @@ def solve_response(
     """Solve ``min ||sqrt(w) (y - X b)||`` on the factored design (module notes)."""
     n = x.shape[0]
     sw = factor.sqrt_weights
-    refiner = Refiner(factor.a, factor.q, factor.r, method)
-    yw = (sw * y)[:, None]
+    refiner = Refiner(
+        factor.x_scaled, sw if factor.weighted else None, factor.q, factor.r, method
+    )
+    y2 = y[:, None]
     centered = factor.rank > 0 and float(
         factor.relative_distance(np.ones(n))[0]
     ) <= constant_tolerance(n, factor.n_columns)
     if not centered:
-        c_all, res_all, steps = refiner.solve(yw, refine)
+        c_all, res_all, steps = refiner.solve(y2, refine)
         return ResponseSolution(c_all[:, 0], res_all[:, 0], steps, False, 0.0, False)
 
     wv = w if w is not None else np.ones(n)
     # weighted mean from correctly rounded sums; any m is valid since b is linear in y
     offset = accurate_sum(wv * y) / accurate_sum(wv)
-    vc = sw * (y - offset)
+    uc = y - offset  # exact where y_i is within a factor 2 of m (Sterbenz)
     c1 = constant_coefficients(factor, x)
     if c1 is None:
-        c_all, res_all, steps = refiner.solve(np.column_stack([vc, sw]), refine)
+        c_all, res_all, steps = refiner.solve(np.column_stack([uc, np.ones(n)]), refine)
         c1 = c_all[:, 1]
     else:
-        c_all, res_all, steps = refiner.solve(vc[:, None], refine)
+        c_all, res_all, steps = refiner.solve(uc[:, None], refine)
     res_w = res_all[:, :1]
     c = c_all[:, :1] + offset * c1[:, None]
-    spread = math.sqrt(accurate_sum_of_squares(vc) / accurate_sum(wv))
+    spread = math.sqrt(accurate_sum_of_squares(sw * uc) / accurate_sum(wv))
     polished = refine > 0 and abs(offset) * EXTENDED_ROUNDOFF[method] <= _EPS * spread
     if polished:
         c_centred = c_all[:, :1]
-        c, _ = refiner.polish(yw, res_w, c, refine)
+        c, _ = refiner.polish(y2, res_w, c, refine)
         # Residual of the rounded coefficients: X (b* - fl(b*)) ~ eps |X| |b| for the
         # uncentred route against eps |A| |c_centred| for the centred one; keep the
         # residual with the smaller bound (an exact fit then gives exactly 0).
-        absa = np.abs(factor.a)
-        if float(np.sum(absa @ np.abs(c))) < float(np.sum(absa @ np.abs(c_centred))):
-            res_w = refiner.op.residual(yw, np.zeros_like(yw), c)
+        absx = np.abs(factor.x_scaled)
+        if float(sw @ (absx @ np.abs(c[:, 0]))) < float(sw @ (absx @ np.abs(c_centred[:, 0]))):
+            res_w = refiner.op.residual(y2, np.zeros_like(y2), c)
     return ResponseSolution(c[:, 0], res_w[:, 0], steps, True, float(offset), polished)

@@ -110,7 +110,7 @@ def as_weights(weights: ArrayLike | None, n: int, *, matrix_name: str = "X") -> 
                 "before fitting instead of weighting them out"
             )
         raise DataError(
-            f"weights must be strictly positive; got {w[i]!r} at row {i} "
+            f"weights must be strictly positive; got {float(w[i])!r} at row {i} "
             f"({nonpos.size} row(s) with weight <= 0)"
         )
     return w
