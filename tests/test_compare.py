@@ -98,7 +98,7 @@ def test_not_nested_names_both_models(data: pd.DataFrame) -> None:
 
 
 def test_not_nested_dense(data: pd.DataFrame) -> None:
-    with pytest.raises(NotNestedError, match="is not nested in model 'C\\(g\\)'.*column 'x'"):
+    with pytest.raises(NotNestedError, match=r"is not nested in model 'C\(g\)'.*column 'x'"):
         nestfit.compare(nestfit.fit("y ~ x", data), nestfit.fit("y ~ C(g)", data))
 
 

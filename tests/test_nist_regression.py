@@ -8,7 +8,7 @@ built here with numpy from the CSV, one column per JSON ``terms`` entry
 Accuracy is the log relative error, LRE = -log10(|est - cert| / |cert|), or
 -log10(|est|) when the certified value is 0 (Wampler1/2 residual SD and
 standard deviations: exact fits), capped at 15 and floored at 0
-(``tests.nist.lre``; McCullough 1998, The American Statistician 52(4)).
+(``tests.nist.lre``; McCullough 1998, The American Statistician 52(4), from memory).
 
 Thresholds, per quantity:
 

@@ -14,7 +14,7 @@ rounded when read.
 LRE = -log10(|est - cert| / |cert|); for a certified 0, -log10(|est|) (absolute
 error); capped at 15 (NIST certifies 15 digits) and floored at 0 (McCullough
 1998, "Assessing the reliability of statistical software: Part I", The
-American Statistician 52(4)).
+American Statistician 52(4); from memory).
 
 Usage: ``.venv/bin/python tools/nist_lre_regression.py [--markdown]``
 """

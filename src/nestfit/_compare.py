@@ -29,8 +29,8 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from nestfit.errors import NotNestedError
 from nestfit._fit import Fit
+from nestfit.errors import NotNestedError
 from nestfit.linalg import is_nested
 
 __all__ = ["Comparison", "ModelSummary", "Step", "compare"]

@@ -111,7 +111,9 @@ def clean_columns(
         try:
             data = pd.DataFrame(data)
         except (TypeError, ValueError) as exc:
-            raise DataError(f"data must be a pandas DataFrame or a mapping of columns: {exc}") from None
+            raise DataError(
+                f"data must be a pandas DataFrame or a mapping of columns: {exc}"
+            ) from None
     used = list(dict.fromkeys([*numeric, *categorical]))
     absent = [c for c in used if c not in data.columns]
     if absent:

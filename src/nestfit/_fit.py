@@ -118,7 +118,7 @@ class Fit:
 
     @property
     def adj_r_squared(self) -> float:
-        """``1 - (RSS / df_res) / (TSS / df_tot)`` with ``df_tot = n - 1`` (``n`` without constant)."""
+        """``1 - (RSS / df_res) / (TSS / df_tot)``, ``df_tot = n - 1`` (``n`` without constant)."""
         df_tot = self.n_obs - (1 if self.has_constant else 0)
         if self.residual_df <= 0 or self.total_ss <= 0 or df_tot <= 0:
             return math.nan

@@ -14,14 +14,14 @@ from typing import Any
 
 import numpy as np
 
-from nestfit._data import MissingReport, check_missing_policy, clean_columns
 from nestfit._compare import Comparison, compare
+from nestfit._data import MissingReport, check_missing_policy, clean_columns
+from nestfit._fit import Fit, fit_design
 from nestfit.design._coding import Coding, Indicator, coding_from_name
 from nestfit.design._design import ColumnInfo, Design
 from nestfit.design._factor import Factor
 from nestfit.design._partition import Partition
 from nestfit.errors import DataError, FactorError
-from nestfit._fit import Fit, fit_design
 from nestfit.linalg._groups import GroupSums, group_sums
 
 __all__ = ["GroupModels", "groups"]
@@ -84,7 +84,9 @@ def groups(
     check_missing_policy(missing)
     if y is not None:
         if data is not None:
-            raise DataError("give either data with column names, or arrays y= and factor=, not both")
+            raise DataError(
+                "give either data with column names, or arrays y= and factor=, not both"
+            )
         if factor is None:
             raise DataError("factor= is required with y=: one label per response value")
         y_arr = np.asarray(y)

@@ -70,7 +70,7 @@ def format_fit(fit: Fit) -> str:
         head.append(f"  {fit.missing}")
     frame = fit.to_frame()
     rows = [
-        [name, format_number(r.estimate), format_number(r.std_error), format_number(r.t, 4),
+        [str(name), format_number(r.estimate), format_number(r.std_error), format_number(r.t, 4),
          format_p(r.p)]
         for name, r in frame.iterrows()
     ]

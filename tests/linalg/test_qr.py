@@ -97,7 +97,7 @@ def test_matches_statsmodels_wls(seed: int) -> None:
     np.testing.assert_allclose(fit.residuals, ref.resid, rtol=1e-9, atol=1e-12)  # unweighted
     np.testing.assert_allclose(fit.cov_unscaled, ref.normalized_cov_params, rtol=1e-10)
     np.testing.assert_allclose(fit.std_errors, ref.bse, rtol=1e-10)
-    # weighted hat matrix W^1/2 X (X'WX)^-1 X' W^1/2 (Seber & Lee 2003, sec. 10.2)
+    # weighted hat matrix W^1/2 X (X'WX)^-1 X' W^1/2 (Seber & Lee 2003, sec. 10.2, from memory)
     xw = x * np.sqrt(w)[:, None]
     hat = xw @ np.linalg.solve(xw.T @ xw, xw.T)
     np.testing.assert_allclose(fit.leverages, np.diag(hat), rtol=1e-10)
@@ -338,7 +338,8 @@ def test_qr_factor_alone() -> None:
 def test_rejects_nan_in_x() -> None:
     x, y = random_problem(0, n=5, p=2)
     x[3, 1] = np.nan
-    with pytest.raises(DataError, match=r"X contains NaN or infinite values \(first at row 3, column 1\)"):
+    msg = r"X contains NaN or infinite values \(first at row 3, column 1\)"
+    with pytest.raises(DataError, match=msg):
         least_squares(x, y)
 
 

@@ -86,7 +86,8 @@ def shapiro_wilk(source: Any, response: str | None = None, factor: str | None = 
             p, alpha,
             "The residuals depart from a normal distribution by more than chance readily "
             "explains",
-            "No clear evidence against normal errors; this does not show that they are normal",
+            "No clear evidence against normal errors",
+            "This does not show that they are normal.",
         ),
         caveat=caveat, alpha=alpha,
     )

@@ -99,13 +99,13 @@ class CheckResult:
                 f"  {self.verdict}\n  {self.caveat}")
 
 
-def verdict(p: float, alpha: float, rejected: str, kept: str) -> str:
-    """``rejected`` or ``kept`` with the p-value and level spelled out."""
+def verdict(p: float, alpha: float, rejected: str, kept: str, kept_note: str = "") -> str:
+    """``rejected`` or ``kept`` (then ``kept_note``) with the p-value and level spelled out."""
     if not math.isfinite(p):
         return "No p-value could be computed."
     if p < alpha:
         return f"{rejected} (p {_p_phrase(p)}, below the level {alpha:g})."
-    return f"{kept} (p {_p_phrase(p)}, not below the level {alpha:g})."
+    return f"{kept} (p {_p_phrase(p)}, not below the level {alpha:g}). {kept_note}".strip()
 
 
 def check_alpha(alpha: float, name: str = "alpha") -> float:

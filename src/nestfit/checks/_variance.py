@@ -213,7 +213,8 @@ def _variance_verdict(models: GroupModels, p: float, alpha: float) -> str:
         f"The spread of {resp!r} differs between the levels of {fac!r} by more than chance "
         "readily explains",
         f"No clear evidence that the spread of {resp!r} differs between the levels of "
-        f"{fac!r}; this does not show that the variances are equal",
+        f"{fac!r}",
+        "This does not show that the variances are equal.",
     )
 
 

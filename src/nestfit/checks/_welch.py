@@ -256,8 +256,11 @@ def welch_contrast(
     c = level_weights(weights, models.levels, zero_sum=False)
     summary = summarize_groups(models)
     se, df = welch_contrast_se(c, summary.variances, summary.counts)
-    estimate = float(c @ summary.means) if math.fsum(c.tolist()) != 0 else math.fsum(
-        (c * models.sums.means).tolist())
+    # Group means relative to the shift keep their digits; the shift counts only
+    # when the weights do not sum to zero.
+    sums = models.sums
+    estimate = (math.fsum((c * sums.means).tolist())
+                + math.fsum(c.tolist()) * (sums.shift + models.offset))
     t = estimate / se
     half = float(stats.t.ppf(0.5 + level / 2.0, df)) * se
     return WelchContrast(

@@ -182,7 +182,7 @@ class Partition:
         """
         if self.levels != other.levels:
             return False
-        first_block = {}
+        first_block: dict[int, int] = {}
         for mine, theirs in zip(self.block_of.tolist(), other.block_of.tolist()):
             if first_block.setdefault(theirs, mine) != mine:
                 return False

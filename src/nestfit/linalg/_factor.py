@@ -5,15 +5,15 @@ positive case weights ``w`` it forms
 
     A = W^(1/2) X D^(-1),      W = diag(w),   D = diag(scale),
 
-where ``scale[j]`` is the power of two nearest below the 2-norm of column j of
-``W^(1/2) X`` (so the columns of ``A`` have norms in [1/2, 1) and the scaling
-itself is exact in binary floating point), and factors ``A P = Q R`` by
+where ``scale[j]`` is the smallest power of two above the 2-norm of column j
+of ``W^(1/2) X`` (so the columns of ``A`` have norms in [1/2, 1) and the
+scaling itself is exact in binary floating point), and factors ``A P = Q R`` by
 Householder QR with column pivoting (LAPACK xGEQP3 through
 ``scipy.linalg.qr(..., pivoting=True, mode="economic")``). The normal
 equations are never formed.
 
 Rank rule (numerical rank, Golub & Van Loan, *Matrix Computations*, 4th ed.,
-2013, sec. 5.4.1-5.4.2; the same rule as LAPACK xGELSY's ``RCOND``): with
+2013, sec. 5.4.1; the same rule as LAPACK xGELSY's ``RCOND``, from memory): with
 ``d_k = |R[k, k]|`` non-increasing under column pivoting, the rank is the
 number of leading ``d_k`` with
 
@@ -21,9 +21,14 @@ number of leading ``d_k`` with
 
 ``eps = 2**-52``. Column equilibration first makes the rule independent of the
 units of the columns (van der Sluis 1969, "Condition numbers and equilibration
-of matrices", Numer. Math. 14). Columns ``pivots[rank:]`` are *aliased*: they
+of matrices", Numer. Math. 14, from memory). Columns ``pivots[rank:]`` are *aliased*: they
 lie, to that tolerance, in the span of the retained columns ``pivots[:rank]``.
-An all-zero column is always aliased.
+An all-zero column is always aliased. A column is judged only by its
+direction, whatever its size: a column of pure rounding noise (1e-17 where 0
+was meant) counts as a genuine column.
+
+Entries up to about 1e300 in magnitude are supported (column norms must not
+overflow).
 """
 
 from __future__ import annotations
@@ -144,8 +149,12 @@ class QRFactor:
         return mask
 
     def _perp(self, u: FloatArray) -> FloatArray:
-        """``u - q q' u`` by classical Gram-Schmidt applied twice ("twice is enough":
-        Giraud, Langou & Rozložník 2005, Comput. Math. Appl. 50; Parlett 1980, sec. 6.9)."""
+        """``u - q q' u`` by classical Gram-Schmidt applied twice.
+
+        "Twice is enough": Giraud, Langou & Rozložník 2005, Comput. Math. Appl.
+        50; Parlett, *The Symmetric Eigenvalue Problem*, 1980, sec. 6.9 (both
+        from memory).
+        """
         for _ in range(2):
             u = u - self.q @ (self.q.T @ u)
         return u
@@ -154,7 +163,8 @@ class QRFactor:
         """W-orthogonal projection onto the column space of the retained columns of ``X``.
 
         ``P_W v = X_r (X_r' W X_r)^(-1) X_r' W v = W^(-1/2) Q Q' W^(1/2) v``
-        (Seber & Lee, *Linear Regression Analysis*, 2nd ed., 2003, sec. 3.10).
+        (Seber & Lee, *Linear Regression Analysis*, 2nd ed., 2003, sec. 3.10,
+        from memory).
 
         Parameters
         ----------

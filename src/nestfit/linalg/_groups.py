@@ -112,6 +112,7 @@ def group_sums(
     if not np.isfinite(c):
         raise DataError("the response has NaN or infinite values")
     dev = np.subtract(y, c)
+    totals: np.ndarray
     if weights is None:
         totals = counts.astype(np.float64)
         means = np.bincount(codes, weights=dev, minlength=n_groups) / totals

@@ -13,6 +13,9 @@ the retained thin Q of the larger model (:meth:`QRFactor.project`).
 
 :func:`sequential_ss` computes a whole chain of prefix models from one
 block-wise factorisation; see its docstring.
+
+Section, algorithm and page numbers in the references of this module are cited
+from memory.
 """
 
 from __future__ import annotations

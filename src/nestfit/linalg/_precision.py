@@ -26,6 +26,9 @@ through offsets (a column ``x = 1e6 + u``): long double then leaves relative
 errors near 1e-11 in the residual sum of squares, where the compensated
 scheme is exact to float64.
 The accuracy documentation lists both on the NIST StRD sets.
+
+Section, algorithm and page numbers in the references of this module are cited
+from memory.
 """
 
 from __future__ import annotations

@@ -11,15 +11,19 @@ where it is implemented):
    two and factor by Householder QR with column pivoting
    (:mod:`nestfit.linalg._factor`); the numerical rank decides which columns
    are *aliased* (coefficient NaN, never a silent minimum-norm answer).
-2. If the constant vector lies in the column space (its relative distance from
-   the span of the retained Q is below ``32 * sqrt(max(n, p)) * eps``), solve for
-   ``y - m`` with ``m`` the weighted mean, and add ``m * g`` back, where ``g``
-   solves ``X g = 1``. Least squares is linear in ``y``, so
-   ``b(y) = b(y - m 1) + m b(1)`` exactly; the centred problem carries no
-   common offset, so a response like ``1e12 + noise`` keeps all its digits.
+2. If the constant vector lies in the column space, solve for ``y - m`` with
+   ``m`` the weighted mean and add ``m * b(1)`` back (exact, by linearity);
+   a response like ``1e12 + noise`` keeps all the digits of its noise. The
+   coefficients are then polished against ``y`` itself to undo the
+   cancellation of that sum (:mod:`nestfit.linalg._solve`).
 3. Solve by QR and refine residual and solution together through the
    augmented system with extended-precision residuals (Björck 1967;
    :mod:`nestfit.linalg._refine`, :mod:`nestfit.linalg._precision`).
+4. Report ``(X_r' W X_r)^(-1)`` from ``R^(-1)``, the leverages from the thin
+   ``Q`` and the condition number of ``R``.
+
+Section, algorithm and page numbers in the references of this module are cited
+from memory.
 """
 
 from __future__ import annotations
@@ -193,13 +197,15 @@ class LeastSquares:
         return self.factor.project(v)
 
 
-def _rank_message(factor: QRFactor, names: tuple[str, ...]) -> str:
-    shown = ", ".join(repr(nm) if not nm.startswith("column ") else nm for nm in names[:10])
-    more = f" and {len(names) - 10} more" if len(names) > 10 else ""
+def _rank_message(fit: LeastSquares) -> str:
+    names = fit.aliased_names()
+    labels = [repr(nm) for nm in names] if fit.column_names is not None else list(names)
+    shown = ", ".join(labels[:10]) + (f" and {len(labels) - 10} more" if len(labels) > 10 else "")
+    verb = "is" if len(names) == 1 else "are"
     return (
-        f"X is rank deficient (rank {factor.rank} < {factor.n_columns} columns): "
-        f"{shown}{more} aliased with the columns before them in pivot order; "
-        "their coefficients are not estimable and are reported as NaN"
+        f"X is rank deficient (rank {fit.rank} < {fit.factor.n_columns} columns): "
+        f"{shown} {verb} aliased with columns retained before them in pivot order; "
+        "not estimable, reported as NaN"
     )
 
 
@@ -303,8 +309,9 @@ def least_squares(
     cov = np.full((p, p), np.nan)
     if rank:
         rinv = scipy.linalg.solve_triangular(factor.r, np.eye(rank), check_finite=False)
-        s = factor.scale[retained]
-        cov[np.ix_(retained, retained)] = (rinv @ rinv.T) / np.outer(s, s)
+        m = rinv / factor.scale[retained][:, None]  # D^-1 R^-1
+        with np.errstate(over="ignore", under="ignore"):  # inf/0 only where unrepresentable
+            cov[np.ix_(retained, retained)] = m @ m.T
     leverages = np.einsum("ij,ij->i", factor.q, factor.q)
 
     result = LeastSquares(
@@ -321,7 +328,5 @@ def least_squares(
         column_names=names,
     )
     if warn and rank < p:
-        warnings.warn(
-            _rank_message(factor, result.aliased_names()), RankDeficiencyWarning, stacklevel=2
-        )
+        warnings.warn(_rank_message(result), RankDeficiencyWarning, stacklevel=2)
     return result

@@ -9,7 +9,7 @@ system (Björck 1967)
     [ A'  0 ] [ c ] = [ 0 ].
 
 Refinement (Björck, Å. (1967), "Iterative refinement of linear least squares
-solutions I", BIT 7, 257-278; Björck, *Numerical Methods for Least Squares
+solutions I", BIT 7, doi:10.1007/BF01939321; Björck, *Numerical Methods for Least Squares
 Problems*, SIAM 1996, sec. 2.9.3) computes the residuals of both block rows in
 extended precision,
 
@@ -27,6 +27,9 @@ Refining ``r`` together with ``c`` removes the ``cond(A)**2 * ||r||`` term that
 limits plain QR and plain (solution-only) refinement when the residual is not
 small; each step contracts the error by about ``cond(A) * eps`` (Björck 1996,
 sec. 2.9.3; Higham 2002, sec. 20.5).
+
+Section, algorithm and page numbers in the references of this module are cited
+from memory.
 """
 
 from __future__ import annotations

@@ -27,6 +27,9 @@ then ``|m|`` dwarfs the spread, the intercept-like coefficients are of order
 When a retained column of ``X`` is constant (``X[:, j] = kappa * 1``), ``b(1)``
 is taken exactly as ``e_j / kappa`` instead of being solved for, so no rounding
 noise of ``b(1)`` is multiplied by ``m``.
+
+Section, algorithm and page numbers in the references of this module are cited
+from memory.
 """
 
 from __future__ import annotations
