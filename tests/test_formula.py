@@ -80,8 +80,10 @@ def test_missing_values_dropped_and_reported(data: pd.DataFrame) -> None:
 
 def test_rank_deficiency_is_reported_by_name(data: pd.DataFrame) -> None:
     data = data.assign(x2=2 * data["x"])
-    with pytest.warns(nestfit.errors.RankDeficiencyWarning, match="'x2'"):
+    with pytest.warns(nestfit.errors.RankDeficiencyWarning, match="column\\(s\\) 'x2' are"):
         f = nestfit.fit("y ~ x + x2", data)
+    with pytest.raises(nestfit.errors.RankDeficientError, match="'x \\+ x2' is rank deficient"):
+        nestfit.fit("y ~ x + x2", data, aliased="raise")
     assert f.aliased == ("x2",)
     assert np.isnan(f.coefficients[2]) and f.rank == 2
     ref = smf.ols("y ~ x", data).fit()

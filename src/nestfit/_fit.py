@@ -15,7 +15,12 @@ from scipy import stats
 
 from nestfit._data import MissingReport
 from nestfit.design._design import Design
-from nestfit.errors import DataError, ZeroResidualDfWarning
+from nestfit.errors import (
+    DataError,
+    RankDeficiencyWarning,
+    RankDeficientError,
+    ZeroResidualDfWarning,
+)
 from nestfit.linalg import least_squares
 from nestfit.linalg._groups import GroupSums, group_sums
 
@@ -268,6 +273,7 @@ def fit_design(
     row_labels: Any = None,
     rank_tol: float | None = None,
     sums: GroupSums | None = None,
+    aliased: str = "warn",
 ) -> Fit:
     """Fit a design by least squares (grouped path when the design allows it).
 
@@ -292,11 +298,17 @@ def fit_design(
     sums : GroupSums, optional
         Precomputed group sums of ``y`` over the design's factor (grouped
         designs), so that several models of one factor share one pass over the data.
+    aliased : {"warn", "raise"}
+        What to do when the design is rank deficient: report the aliased
+        columns (by name) with a :class:`RankDeficiencyWarning` and give them
+        ``NaN`` coefficients, or raise :class:`RankDeficientError`.
 
     Returns
     -------
     Fit
     """
+    if aliased not in ("warn", "raise"):
+        raise DataError(f"aliased must be 'warn' or 'raise'. Got {aliased!r} instead.")
     y = np.asarray(y, dtype=np.float64)
     if y.ndim != 1 or y.size != design.n_rows:
         raise DataError(
@@ -317,6 +329,16 @@ def fit_design(
         # The shift is not absorbed by the model: fit the shifted response itself.
         return fit_design(design, y + offset, response_name=response_name, weights=weights,
                           missing=missing, row_labels=row_labels, rank_tol=rank_tol)
+    aliased_names = tuple(n for n, a in zip(names, result["aliased"]) if a)
+    if aliased_names:
+        message = (
+            f"model {design.name!r} is rank deficient (rank {result['rank']} of "
+            f"{len(names)} columns): column(s) {', '.join(map(repr, aliased_names))} are linear "
+            "combinations of the columns before them; their coefficients are not estimable"
+        )
+        if aliased == "raise":
+            raise RankDeficientError(message + "; remove them or merge the levels involved")
+        warnings.warn(message + " and are reported as NaN", RankDeficiencyWarning, stacklevel=3)
     coefficients = result["coefficients"]
     shift = float(result.get("shift", 0.0))
     if offset or shift:
@@ -341,7 +363,7 @@ def fit_design(
         coefficients=coefficients,
         std_errors=std_errors,
         covariance=covariance,
-        aliased=tuple(n for n, a in zip(names, result["aliased"]) if a),
+        aliased=aliased_names,
         rank=int(result["rank"]),
         residual_ss=float(result["residual_ss"]),
         residual_df=int(residual_df),
@@ -377,7 +399,7 @@ def _fit_grouped(
         # A shift of y is absorbed only by models containing the constant.
         sums = group_sums(factor.codes, y, factor.n_levels, weights, shift=0.0)
     small = least_squares(coding, sums.means, weights=sums.weight_totals, rank_tol=rank_tol,
-                          column_names=names)
+                          column_names=names, warn=False)
     within = sums.total_within_ss
     if has_constant:
         total_w = _accurate_sum(sums.weight_totals)
@@ -408,7 +430,7 @@ def _fit_dense(
     rank_tol: float | None,
 ) -> dict[str, Any]:
     X = design.to_dense()
-    ls = least_squares(X, y, weights=weights, rank_tol=rank_tol, column_names=names)
+    ls = least_squares(X, y, weights=weights, rank_tol=rank_tol, column_names=names, warn=False)
     constant_coefficients = _constant_column(X)
     if constant_coefficients is not None:
         has_constant = True

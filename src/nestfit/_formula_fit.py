@@ -22,6 +22,7 @@ def fit(
     *,
     name: str | None = None,
     rank_tol: float | None = None,
+    aliased: str = "warn",
 ) -> Fit:
     """Fit a linear model given as a patsy formula, by pivoted Householder QR.
 
@@ -44,6 +45,9 @@ def fit(
         Model name used in comparisons (default: the right-hand side).
     rank_tol : float, optional
         Rank tolerance for the QR solver (see :func:`nestfit.linalg.least_squares`).
+    aliased : {"warn", "raise"}
+        Rank-deficient design: name the aliased columns in a warning and give
+        them NaN coefficients (default), or raise ``RankDeficientError``.
 
     Returns
     -------
@@ -82,4 +86,4 @@ def fit(
                                 weights=weight_col)
     return fit_design(built.design, built.y, response_name=built.response_name,
                       weights=built.weights, missing=built.missing,
-                      row_labels=built.row_labels, rank_tol=rank_tol)
+                      row_labels=built.row_labels, rank_tol=rank_tol, aliased=aliased)
