@@ -168,7 +168,9 @@ def test_residual_sd_and_r_squared(name: str) -> None:
 @pytest.mark.parametrize("name", ["Wampler1", "Wampler2", "Wampler3"])
 def test_plain_qr_is_no_better_than_refined(name: str) -> None:
     # Why refinement is on by default: without it Wampler1/3 keep about 9.5
-    # digits of the smallest coefficient (tools/nist_lre_regression.py).
+    # digits of the smallest coefficient, against 15 refined
+    # (tools/nist_lre_regression.py). Wampler2 is at its float64-data ceiling
+    # (13.2 digits) either way, where the last tenth of a digit is rounding luck.
     x, y, meta = load_linreg(name)
     cert = certified(meta)["estimate"]
     plain = least_squares(x, y, refine=0)
@@ -177,7 +179,9 @@ def test_plain_qr_is_no_better_than_refined(name: str) -> None:
     assert refined.refinement_steps >= 1
     lre_plain = min(lre(float(b), c) for b, c in zip(plain.coefficients, cert))
     lre_refined = min(lre(float(b), c) for b, c in zip(refined.coefficients, cert))
-    assert lre_plain <= lre_refined
+    assert lre_plain <= lre_refined + 0.1
+    if name != "Wampler2":
+        assert lre_refined - lre_plain >= 2.0
 
 
 @pytest.mark.skipif(not LONGDOUBLE_IS_EXTENDED, reason="long double is float64 here")

@@ -324,7 +324,7 @@ def fit_design(
     if design.groups is not None:
         result = _fit_grouped(design, y, weights, names, rank_tol, sums)
     else:
-        result = _fit_dense(design, y, weights, names, rank_tol)
+        result = _fit_dense(design, y, weights, names, rank_tol, need_constant=bool(offset))
     if offset and not result["has_constant"]:
         # The shift is not absorbed by the model: fit the shifted response itself.
         return fit_design(design, y + offset, response_name=response_name, weights=weights,
@@ -427,18 +427,19 @@ def _fit_grouped(
 
 def _fit_dense(
     design: Design, y: np.ndarray, weights: np.ndarray | None, names: Sequence[str],
-    rank_tol: float | None,
+    rank_tol: float | None, *, need_constant: bool,
 ) -> dict[str, Any]:
     X = design.to_dense()
     ls = least_squares(X, y, weights=weights, rank_tol=rank_tol, column_names=names, warn=False)
+    # The solver centres y exactly when the constant lies in the column space.
+    has_constant = bool(ls.centered)
     constant_coefficients = _constant_column(X)
-    if constant_coefficients is not None:
-        has_constant = True
-    else:
-        const = least_squares(X, np.ones(design.n_rows), weights=weights, rank_tol=rank_tol,
-                              warn=False)
-        has_constant = const.residual_ss <= _CONSTANT_TOL * design.n_rows
-        constant_coefficients = np.nan_to_num(np.asarray(const.coefficients, dtype=float))
+    if constant_coefficients is None:
+        constant_coefficients = np.zeros(X.shape[1])
+        if need_constant and has_constant:  # coefficients expressing 1 = X g, to add an offset
+            const = least_squares(X, np.ones(design.n_rows), weights=weights,
+                                  rank_tol=rank_tol, warn=False)
+            constant_coefficients = np.nan_to_num(np.asarray(const.coefficients, dtype=float))
     if has_constant:
         w = np.ones_like(y) if weights is None else weights
         mean = _accurate_sum(w * y) / _accurate_sum(w)

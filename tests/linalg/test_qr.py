@@ -295,9 +295,7 @@ def test_leverages_sum_to_rank_and_cov_matches_inverse() -> None:
     fit = least_squares(x, y, weights=w)
     assert fit.leverages.sum() == pytest.approx(4.0, rel=1e-13)
     assert np.all((fit.leverages >= 0) & (fit.leverages <= 1 + 1e-14))
-    np.testing.assert_allclose(
-        fit.cov_unscaled, np.linalg.inv((x * w[:, None]).T @ x), rtol=1e-10
-    )
+    np.testing.assert_allclose(fit.cov_unscaled, np.linalg.inv((x * w[:, None]).T @ x), rtol=1e-10)
     q = fit.q
     np.testing.assert_allclose(q.T @ q, np.eye(4), atol=1e-14)
 

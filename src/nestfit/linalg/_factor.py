@@ -57,18 +57,23 @@ def _readonly(arr: NDArray[Any]) -> NDArray[Any]:
 def column_scales(a: FloatArray) -> FloatArray:
     """Powers of two ``2**e_j`` with ``||a[:, j]||_2 = f_j * 2**e_j``, ``f_j`` in [1/2, 1).
 
-    Norms are computed as ``m_j * ||a[:, j] / m_j||`` with ``m_j = max_i |a_ij|``
-    to avoid overflow and underflow (the scaling of xNRM2, from memory).
-    Zero columns get scale 1.
+    Where ``sqrt(sum a_ij^2)`` would overflow or underflow, the norm is
+    recomputed as ``m_j * ||a[:, j] / m_j||`` with ``m_j = max_i |a_ij|`` (the
+    scaling idea of xNRM2, from memory). Zero columns get scale 1.
     """
-    colmax = np.max(np.abs(a), axis=0) if a.shape[0] else np.zeros(a.shape[1])
+    with np.errstate(over="ignore", under="ignore"):
+        norms = np.sqrt(np.einsum("ij,ij->j", a, a))
+    redo = ~np.isfinite(norms) | (norms < 1e-150)
+    if np.any(redo):
+        sub = a[:, redo]
+        colmax = np.max(np.abs(sub), axis=0) if sub.shape[0] else np.zeros(sub.shape[1])
+        safe = np.where(colmax > 0, colmax, 1.0)
+        ratio = sub / safe
+        norms[redo] = colmax * np.sqrt(np.einsum("ij,ij->j", ratio, ratio))
     scales = np.ones(a.shape[1])
-    nz = colmax > 0
-    if np.any(nz):
-        ratio = a[:, nz] / colmax[nz]
-        norms = colmax[nz] * np.sqrt(np.einsum("ij,ij->j", ratio, ratio))
-        _, expo = np.frexp(norms)
-        scales[nz] = np.ldexp(1.0, expo)
+    nz = norms > 0
+    _, expo = np.frexp(norms[nz])
+    scales[nz] = np.ldexp(1.0, expo)
     return scales
 
 
@@ -205,9 +210,7 @@ class QRFactor:
     def _weighted(self, v: ArrayLike) -> FloatArray:
         arr = np.asarray(v, dtype=np.float64)
         if arr.ndim not in (1, 2) or arr.shape[0] != self.n_obs:
-            raise ValueError(
-                f"expected an array with {self.n_obs} rows; got shape {arr.shape}"
-            )
+            raise ValueError(f"expected an array with {self.n_obs} rows; got shape {arr.shape}")
         arr2 = arr.reshape(self.n_obs, -1)
         return arr2 * self.sqrt_weights[:, None] if self.weighted else arr2.copy()
 
@@ -238,7 +241,7 @@ def factorize(x: FloatArray, w: FloatArray | None, rank_tol: float) -> QRFactor:
     above = diag > tolerance
     rank = int(k if np.all(above) else np.argmin(above))
     piv = np.asarray(piv, dtype=np.intp)
-    q = np.ascontiguousarray(q_all[:, :rank])
+    q = q_all[:, :rank]
     r = np.triu(r_all[:rank, :rank])
     x_scaled = np.ascontiguousarray(x[:, piv[:rank]] / scale[piv[:rank]])
     condition = float(np.linalg.cond(r)) if rank else float("nan")

@@ -70,9 +70,7 @@ def column_space_residual(large: QRFactor | LeastSquares, X_small: ArrayLike) ->
     factor = large.factor if isinstance(large, LeastSquares) else large
     xs = as_matrix(X_small, "X_small", allow_no_columns=True)
     if xs.shape[0] != factor.n_obs:
-        raise DataError(
-            f"X_small has {xs.shape[0]} rows but the larger model has {factor.n_obs}"
-        )
+        raise DataError(f"X_small has {xs.shape[0]} rows but the larger model has {factor.n_obs}")
     if xs.shape[1] == 0:
         return np.zeros(0)
     return factor.relative_distance(xs)
@@ -328,9 +326,7 @@ def sequential_ss(
                 u = u - qj @ (qj.T @ u)
             centered[j] = float(np.linalg.norm(u) / np.linalg.norm(sw)) <= ctol
         rhs = (yv - offset if centered[j] else yv)[:, None]
-        refiner = Refiner(
-            x_ret[:, :end], sw if w is not None else None, qj, r[:end, :end], method
-        )
+        refiner = Refiner(x_ret[:, :end], sw if w is not None else None, qj, r[:end, :end], method)
         _, res, _ = refiner.solve(rhs, int(refine))
         res_j = res[:, 0]
         proj = q[:, start:end].T @ prev_res

@@ -60,6 +60,7 @@ FloatArray = NDArray[np.float64]
 IntArray = NDArray[np.intp]
 BoolArray = NDArray[np.bool_]
 
+
 def _readonly(arr: FloatArray) -> FloatArray:
     arr.setflags(write=False)
     return arr
@@ -261,7 +262,7 @@ def least_squares(
     extended : {"compensated", "longdouble"}, default "compensated"
         How refinement residuals are computed in extended precision:
         error-free compensated arithmetic in float64 (about twice the working
-        precision, the same result on every platform), or ``numpy.longdouble``
+        precision on every platform), or ``numpy.longdouble``
         (only where it is wider than float64, see ``LONGDOUBLE_IS_EXTENDED``;
         11 more bits on x86-64). See :mod:`nestfit.linalg._precision`.
 

@@ -16,8 +16,9 @@ digits are recovered by *polishing*: refining the coefficients against the
 uncentred response with the accurate centred residual held fixed
 (:meth:`Refiner.polish`); the residual is then recomputed from the polished
 coefficients if its rounding bound ``eps * |X| |b|`` is the smaller one.
-Polishing evaluates ``y - r - X b`` in extended precision; it is applied only
-when that precision resolves the offset, i.e.
+Polishing is skipped when no component of the sum cancels by more than a
+factor 2 (one bit). It evaluates ``y - r - X b`` in extended precision and is
+applied only when that precision resolves the offset, i.e.
 ``|m| * u_ext <= eps * s`` with ``s`` the RMS of the centred response and
 ``u_ext`` the extended unit roundoff (a rule of this module, derived from the
 error bound of the extended residual). Otherwise the centred solution stands:
@@ -122,9 +123,7 @@ def solve_response(
     """Solve ``min ||sqrt(w) (y - X b)||`` on the factored design (module notes)."""
     n = x.shape[0]
     sw = factor.sqrt_weights
-    refiner = Refiner(
-        factor.x_scaled, sw if factor.weighted else None, factor.q, factor.r, method
-    )
+    refiner = Refiner(factor.x_scaled, sw if factor.weighted else None, factor.q, factor.r, method)
     y2 = y[:, None]
     centered = factor.rank > 0 and float(
         factor.relative_distance(np.ones(n))[0]
@@ -146,9 +145,12 @@ def solve_response(
     res_w = res_all[:, :1]
     c = c_all[:, :1] + offset * c1[:, None]
     spread = math.sqrt(accurate_sum_of_squares(sw * uc) / accurate_sum(wv))
-    polished = refine > 0 and abs(offset) * EXTENDED_ROUNDOFF[method] <= _EPS * spread
+    c_centred = c_all[:, :1]
+    # digits lost by cancellation in c = c_centred + m c_1: log2 |c_centred| / |c|
+    cancels = bool(np.any(np.abs(c_centred) > 2.0 * np.abs(c)))
+    resolves = abs(offset) * EXTENDED_ROUNDOFF[method] <= _EPS * spread
+    polished = refine > 0 and cancels and resolves
     if polished:
-        c_centred = c_all[:, :1]
         c, _ = refiner.polish(y2, res_w, c, refine)
         # Residual of the rounded coefficients: X (b* - fl(b*)) ~ eps |X| |b| for the
         # uncentred route against eps |A| |c_centred| for the centred one; keep the

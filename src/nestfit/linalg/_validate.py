@@ -75,8 +75,7 @@ def as_vector(v: ArrayLike, n: int, name: str = "y", *, matrix_name: str = "X") 
     arr = _to_float(v, name)
     if arr.ndim != 1:
         raise DataError(
-            f"{name} must be a 1-D array with one value per observation; "
-            f"got shape {arr.shape}"
+            f"{name} must be a 1-D array with one value per observation; got shape {arr.shape}"
         )
     if arr.shape[0] != n:
         raise DataError(f"{matrix_name} has {n} rows but {name} has {arr.shape[0]} values")
