@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import gc
+import math
 import time
 import tracemalloc
 from collections.abc import Callable
@@ -22,8 +23,19 @@ class Timing:
     result: Any
 
 
-def best_of(fn: Callable[[], Any], runs: int) -> Timing:
-    """Call ``fn`` ``runs`` times; keep the smallest ``time.perf_counter`` interval.
+def best_of(
+    fn: Callable[[], Any],
+    runs: int,
+    budget: float = math.inf,
+    *,
+    min_runs: int = 2,
+    slow: float = 60.0,
+) -> Timing:
+    """Call ``fn`` up to ``runs`` times; keep the smallest ``time.perf_counter`` interval.
+
+    At least ``min(min_runs, runs)`` runs are made, unless the first takes
+    more than ``slow`` seconds (then it is the only one). Beyond that, no
+    further run starts once the runs so far have taken ``budget`` seconds.
 
     The minimum is the least noisy estimate of the cost of the code itself:
     interference from the rest of the machine only ever adds time. A garbage
@@ -32,7 +44,9 @@ def best_of(fn: Callable[[], Any], runs: int) -> Timing:
     """
     times = []
     result: Any = None
-    for _ in range(max(1, runs)):
+    for i in range(max(1, runs)):
+        if times and (times[0] > slow or (i >= min_runs and sum(times) >= budget)):
+            break
         result = None
         gc.collect()
         start = time.perf_counter()

@@ -148,6 +148,7 @@ def _adjusted_squares(fit: Fit, kind: str) -> np.ndarray:
     if np.any(unit):
         i = int(np.flatnonzero(unit)[0])
         label = fit.row_labels[i] if fit.row_labels is not None else i
+        label = label.item() if isinstance(label, np.generic) else label
         raise DataError(
             f"{kind} divides by 1 - leverage, and observation {label!r} of model {fit.name!r} "
             "has leverage 1 (it alone determines a parameter, e.g. a level with one "

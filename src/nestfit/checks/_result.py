@@ -3,15 +3,17 @@
 from __future__ import annotations
 
 import math
+import numbers
 from dataclasses import dataclass
 from typing import Any
 
+import numpy as np
 import pandas as pd
 
 from nestfit._text import format_number, format_p
 from nestfit.errors import DataError
 
-__all__ = ["CheckResult", "check_alpha", "verdict"]
+__all__ = ["CheckResult", "check_alpha", "is_real", "verdict"]
 
 
 @dataclass(frozen=True)
@@ -93,8 +95,9 @@ class CheckResult:
                          for d in self.df) or "-"
 
     def __str__(self) -> str:
+        df = f" (df {self.df_text()})" if self.df else ""
         return (f"{self.name}: {self.distribution} = {format_number(self.statistic, 5)}"
-                f" (df {self.df_text()}), p {_p_phrase(self.p)}\n"
+                f"{df}, p {_p_phrase(self.p)}\n"
                 f"  null hypothesis: {self.null_hypothesis}\n"
                 f"  {self.verdict}\n  {self.caveat}")
 
@@ -108,15 +111,16 @@ def verdict(p: float, alpha: float, rejected: str, kept: str, kept_note: str = "
     return f"{kept} (p {_p_phrase(p)}, not below the level {alpha:g}). {kept_note}".strip()
 
 
+def is_real(value: object) -> bool:
+    """A real number (Python or numpy), not a bool."""
+    return isinstance(value, numbers.Real) and not isinstance(value, (bool, np.bool_))
+
+
 def check_alpha(alpha: float, name: str = "alpha") -> float:
-    """``0 < alpha < 1`` or DataError."""
-    try:
-        a = float(alpha)
-    except (TypeError, ValueError) as exc:
-        raise DataError(f"{name} must be a number between 0 and 1. Got {alpha!r}.") from exc
-    if not 0.0 < a < 1.0:
+    """``0 < alpha < 1`` or DataError (also used for confidence levels and target powers)."""
+    if not (is_real(alpha) and 0.0 < float(alpha) < 1.0):
         raise DataError(f"{name} must be between 0 and 1 (exclusive). Got {alpha!r} instead.")
-    return a
+    return float(alpha)
 
 
 def _p_phrase(p: float) -> str:

@@ -251,7 +251,7 @@ class _Parser:
         if self._is_op("("):
             self._advance()
             if self._is_op(")"):
-                raise self._error("empty parentheses")
+                raise self._error("empty parentheses", tok.pos)
             node = self.expr()
             if not self._is_op(")"):
                 raise self._error(f"expected ')' to close the '(' at character {tok.pos + 1}, "

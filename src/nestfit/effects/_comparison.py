@@ -44,6 +44,7 @@ import pandas as pd
 
 from nestfit._compare import Comparison
 from nestfit._text import format_number, text_table
+from nestfit.checks._result import check_alpha
 from nestfit.effects._interval import noncentrality_interval_f
 from nestfit.errors import DataError
 
@@ -194,8 +195,7 @@ def effect_sizes(comparison: Comparison, *, level: float = 0.95) -> ComparisonEf
     """
     if not isinstance(comparison, Comparison):
         raise DataError(f"effect_sizes takes a Comparison. Got {type(comparison).__name__}.")
-    if not (isinstance(level, (int, float)) and 0.0 < level < 1.0):
-        raise DataError(f"level must be between 0 and 1 (exclusive). Got {level!r} instead.")
+    level = check_alpha(level, "level")
     if not comparison.fits:
         raise DataError("this comparison does not hold its fits; build it with nestfit.compare")
     first = comparison.fits[0]

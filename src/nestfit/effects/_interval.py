@@ -23,6 +23,7 @@ import math
 
 from scipy import optimize, stats
 
+from nestfit.checks._result import check_alpha
 from nestfit.errors import DataError
 
 __all__ = ["noncentrality_interval_f", "noncentrality_interval_t"]
@@ -135,5 +136,4 @@ def noncentrality_interval_t(t_value: float, df: float,
 
 
 def _check_level(level: float) -> None:
-    if not (isinstance(level, (int, float)) and 0.0 < level < 1.0):
-        raise DataError(f"level must be between 0 and 1 (exclusive). Got {level!r} instead.")
+    check_alpha(level, "level")

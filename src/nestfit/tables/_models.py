@@ -67,6 +67,8 @@ class FactorialModels:
         Rows dropped for missing values.
     row_labels : ndarray
         Index labels of the rows used.
+    frame : pandas.DataFrame
+        The columns the formula uses, on the rows used (before any coding).
     """
 
     formula: str
@@ -204,33 +206,134 @@ class FactorialModels:
 
     # ------------------------------------------------------------ results
     def table(self, kind: str = "marginal") -> SumsOfSquaresTable:
-        """The sums-of-squares table of one kind; see :func:`nestfit.tables.sums_of_squares`."""
+        """The sums-of-squares table of one kind, every row a comparison of two named models.
+
+        Parameters
+        ----------
+        kind : {"sequential", "marginal", "each-last"}
+            ``"sequential"``: each term against the terms before it (type I).
+            ``"marginal"`` (default): each term against every term that does
+            not contain it (type II; respects marginality, does not depend on
+            the order or the coding). ``"each-last"``: each term against the
+            full model without it, with sum-to-zero coding of every factor
+            (type III).
+
+        Returns
+        -------
+        SumsOfSquaresTable
+
+        Raises
+        ------
+        ModelError
+            An unknown kind; for ``"each-last"``, a coding that sum-to-zero
+            recoding would change.
+
+        Notes
+        -----
+        Row: ``SS = RSS(smaller) - RSS(larger)``, ``df = rank(larger) -
+        rank(smaller)``, ``F = (SS / df) / s^2`` with ``s^2`` the full model's
+        residual mean square (Seber & Lee 2003, sec. 4.3, from memory). See
+        :mod:`nestfit.tables._table` and ``docs/choosing-a-table.md``.
+        """
         from nestfit.tables._table import sums_of_squares
 
         return sums_of_squares(self, kind)
 
     @cached_property
     def cells(self) -> CellReport:
-        """Cell counts, empty cells and what remains estimable (see :class:`CellReport`)."""
+        """Cell counts, empty cells (``"a=2, b=3"``), aliased columns and testable df per term."""
         from nestfit.tables._cells import cell_report
 
         return cell_report(self)
 
     def cell_means(self, *, at: Mapping[str, float] | None = None) -> EstimatedMeans:
-        """Model-estimated mean of every cell; see :func:`nestfit.tables._means.cell_means`."""
-        from nestfit.tables._means import cell_means
+        """The model-estimated mean of every cell (every combination of the factors' levels).
+
+        Parameters
+        ----------
+        at : mapping, optional
+            Covariate values by column name; default each covariate's mean over
+            the rows used.
+
+        Returns
+        -------
+        EstimatedMeans
+            ``mu = M b`` with ``M`` the design rows of the cells; in the full
+            interaction model without covariates, the sample cell means.
+            Cells the model cannot predict (empty cells of a crossed term) are
+            marked not estimable.
+
+        Raises
+        ------
+        ModelError
+            No categorical factor, or a factor built from several columns.
+        ColumnError, DataError
+            ``at`` names an unknown covariate or holds a non-finite value.
+        """
+        from nestfit.tables._grid import cell_means
 
         return cell_means(self, at=at)
 
     def marginal_means(self, factors: str | Sequence[str], *, weights: str = "equal",
                        at: Mapping[str, float] | None = None) -> EstimatedMeans:
-        """Marginal (for covariates: adjusted) means; see :func:`nestfit.tables._means.marginal_means`."""
-        from nestfit.tables._means import marginal_means
+        """Means of one factor (or a few) averaged over the others; with covariates, adjusted means.
+
+        ``mu_i. = sum_j v_ij mu_ij`` with ``v_ij = 1 / J`` (``weights="equal"``)
+        or ``v_ij = n_ij / n_i.`` (``weights="proportional"``); the cell means
+        ``mu_ij`` are at the covariate values ``at`` (default their means),
+        which makes these the adjusted means of an analysis of covariance.
+
+        Parameters
+        ----------
+        factors : str or sequence of str
+            The factor(s) to keep, by column name (``"a"``) or code (``"C(a)"``).
+        weights : {"equal", "proportional"}
+            Equal weight for every cell of the other factors (the design as
+            planned; what the each-last table tests), or weights proportional
+            to the cell counts (the data's make-up; in the full model, the raw
+            level means). See :mod:`nestfit.tables._means`.
+        at : mapping, optional
+            Covariate values by column name.
+
+        Returns
+        -------
+        EstimatedMeans
+
+        Raises
+        ------
+        FactorError
+            An unknown factor, a covariate given as a factor, a factor named twice.
+        DataError
+            An unknown weighting, a non-finite covariate value.
+        """
+        from nestfit.tables._grid import marginal_means
 
         return marginal_means(self, factors, weights=weights, at=at)
 
     def equal_slopes(self, factor: str | None = None, covariate: str | None = None) -> Comparison:
-        """Test of equal covariate slopes across groups; see :func:`nestfit.tables.equal_slopes`."""
+        """Test one common covariate slope against a slope per group (analysis of covariance).
+
+        Compares this model with the model that adds ``factor:covariate``;
+        ``F = ((RSS_s - RSS_l) / (k - 1)) / (RSS_l / df_l)``.
+
+        Parameters
+        ----------
+        factor, covariate : str, optional
+            Column name or code; needed only when the model has several.
+
+        Returns
+        -------
+        Comparison
+            The chain ``model -> model + factor:covariate``.
+
+        Raises
+        ------
+        ModelError
+            No covariate or no factor, several without a choice, or slopes
+            that already differ by the factor.
+        FactorError
+            An unknown name.
+        """
         from nestfit.tables._ancova import equal_slopes
 
         return equal_slopes(self, factor=factor, covariate=covariate)

@@ -32,6 +32,7 @@ without the cancellation of a difference of two residual sums of squares.
 from __future__ import annotations
 
 import math
+import warnings
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
@@ -104,7 +105,6 @@ class TermTest:
     smaller_design: Design | None = field(default=None, repr=False)
     larger_design: Design | None = field(default=None, repr=False)
     _models: Any = field(default=None, repr=False)
-    _sum_to_zero: bool = field(default=False, repr=False)
 
     def models(self) -> tuple[Fit, Fit]:
         """The two fits compared, smaller first (:func:`nestfit.compare` on them gives ``ss``)."""
@@ -195,7 +195,8 @@ class SumsOfSquaresTable:
         for r in self.rows:
             if r.term == term:
                 return r
-        raise KeyError(f"no row for term {term!r}; the rows are {', '.join(r.term for r in self.rows)}")
+        terms = ", ".join(r.term for r in self.rows)
+        raise KeyError(f"no row for term {term!r}; the rows are {terms}")
 
     def to_frame(self) -> pd.DataFrame:
         """One row per term: smaller_model, larger_model, df, ss, mean_square, f, p."""
@@ -253,7 +254,9 @@ def f_test(ss: float, df: int, residual_ss: float, residual_df: int) -> tuple[fl
     return (ms, math.inf, 0.0) if ss > 0 else (ms, math.nan, math.nan)
 
 
-def _extra(x: np.ndarray, y: np.ndarray, small: Sequence[int], term: Sequence[int]) -> tuple[int, float]:
+def extra_ss_of_term(x: np.ndarray, y: np.ndarray, small: Sequence[int],
+                     term: Sequence[int]) -> tuple[int, float]:
+    """``(df, SS)`` of adding columns ``term`` to columns ``small`` of ``x`` (one factorisation)."""
     chain = sequential_ss(x[:, [*small, *term]], y, [len(small), len(term)])
     return int(chain.df[1]), float(chain.extra_ss[1])
 
@@ -262,9 +265,11 @@ def _row_note(df: int, columns: int, cells_note: str) -> str:
     if df == 0:
         return ("not testable: every column of the term is aliased with the smaller model "
                 "(no observations to estimate it)")
+    notes = [cells_note] if cells_note else []
     if df < columns:
-        return f"tested on {df} of its {columns} columns: the rest are aliased (empty cells)"
-    return cells_note
+        notes.insert(0, f"tested on {df} of its {columns} columns: the rest are aliased "
+                        "(empty cells)")
+    return "; ".join(notes)
 
 
 def sums_of_squares(models: FactorialModels, kind: str = "marginal") -> SumsOfSquaresTable:
@@ -308,8 +313,6 @@ def sums_of_squares(models: FactorialModels, kind: str = "marginal") -> SumsOfSq
     residual_ss, residual_df = float(chain.rss[-1]), int(chain.df_residual[-1])
     total_ss = float(chain.rss[0])  # the first block is the intercept
     if residual_df <= 0:
-        import warnings
-
         warnings.warn(
             f"model {models.name!r} has no residual degrees of freedom ({models.n_obs} "
             f"observations, rank {chain.rank}): the table has no F tests",
@@ -331,7 +334,7 @@ def sums_of_squares(models: FactorialModels, kind: str = "marginal") -> SumsOfSq
                 smaller = [n for n in order if n != name and not terms.term(n).contains(t)]
             else:
                 smaller = [n for n in order if n != name]
-            df, ss = _extra(xs, y, models.columns_of(smaller), t.columns)
+            df, ss = extra_ss_of_term(xs, y, models.columns_of(smaller), t.columns)
         ms, f, p = f_test(ss, df, residual_ss, residual_df)
         larger = [*smaller, name]
         note = _row_note(df, len(t.columns), cells.each_last_note(t) if sum_to_zero else "")
@@ -342,7 +345,7 @@ def sums_of_squares(models: FactorialModels, kind: str = "marginal") -> SumsOfSq
             df=df, ss=ss, mean_square=ms, f=f, p=p, columns=len(t.columns), note=note,
             smaller_design=models.design_of(smaller, sum_to_zero=sum_to_zero),
             larger_design=models.design_of(larger, sum_to_zero=sum_to_zero),
-            _models=models, _sum_to_zero=sum_to_zero,
+            _models=models,
         ))
     return SumsOfSquaresTable(
         kind=kind, response_name=models.response_name, n_obs=models.n_obs,

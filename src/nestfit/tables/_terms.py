@@ -116,8 +116,10 @@ class ModelTerms:
         Terms in design-column order (patsy puts terms made only of factors
         first, then terms with covariates).
     formula_order : tuple of str
-        The term names in the order written in the formula (after expanding
-        ``*``), the order of the sequential table.
+        The term names in formula order, the order of the sequential table:
+        terms of lower order (fewer factors) first, and within one order as
+        written (``"C(a)*C(b)*C(c)"`` gives a, b, c, a:b, a:c, b:c, a:b:c;
+        ``"x + C(g)"`` keeps ``x`` first).
     factors : tuple of FactorInfo
         Every factor, in order of first appearance in the design.
     column_names : tuple of str
@@ -222,7 +224,7 @@ def _coding_given(code: str) -> bool:
 
 
 def _deviation_code(code: str) -> str:
-    """``C(a, Treatment)`` -> ``C(a, Deviation())``; a bare categorical ``a`` -> ``C(a, Deviation())``.
+    """``C(a, Treatment)`` and a bare categorical ``a`` both become ``C(a, Deviation())``.
 
     A ``levels=`` argument is kept (it fixes the level order); any other coding is replaced.
     """
@@ -315,9 +317,14 @@ def read_terms(formula: str, frame: pd.DataFrame, eval_env: Any,
         terms.append(TermInfo(term.name(), tuple(f.code for f in term.factors),
                               tuple(range(sl.start, sl.stop))))
     names = {t.name for t in terms}
-    typed = [t.name() for t in desc.rhs_termlist if t.name() in names]
-    typed += [n.name for n in terms if n.name not in typed]
+    typed = [t for t in desc.rhs_termlist if t.name() in names]
+    # lower-order terms first, as written within each order (so "C(a)*C(b)*C(c)"
+    # gives a, b, c, a:b, a:c, b:c, a:b:c and "x + C(g)" keeps x first)
+    typed.sort(key=lambda t: len(t.factors))
+    order = [t.name() for t in typed]
+    order += [n.name for n in terms if n.name not in order]
     lhs, rhs = formula.split("~", 1)
-    rhs_vars = tuple(n for n in _formula_names(rhs, columns) if n not in _formula_names(lhs, columns))
-    return ModelTerms(formula, lhs.strip(), tuple(terms), tuple(typed), tuple(factors),
+    lhs_vars = _formula_names(lhs, columns)
+    rhs_vars = tuple(n for n in _formula_names(rhs, columns) if n not in lhs_vars)
+    return ModelTerms(formula, lhs.strip(), tuple(terms), tuple(order), tuple(factors),
                       tuple(info.column_names), rhs_vars, info)

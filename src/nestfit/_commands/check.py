@@ -1,0 +1,54 @@
+"""``nestfit check FILE --response COL --factor COL``: assumption tests and Welch's test."""
+
+from __future__ import annotations
+
+import argparse
+from typing import Any
+
+from nestfit._commands._common import add_format, emit
+
+__all__ = ["register", "run"]
+
+
+def register(sub: Any) -> None:
+    """Add the ``check`` subcommand."""
+    p = sub.add_parser(
+        "check",
+        help="test equal variances and normal errors; compare means by Welch's test",
+        description=(
+            "Run Levene's and the Brown-Forsythe tests and Bartlett's test of equal variances, "
+            "the Shapiro-Wilk test on the residuals of the separate-means model, and Welch's "
+            "test of equal means without assuming equal variances. JSON output: "
+            '{"tests": [{"name", "statistic", "df", "p", "reading", ...}], "groups": [...]}; '
+            "df is a list of two numbers for F statistics, one number for chi-square, null "
+            "for Shapiro-Wilk."
+        ),
+    )
+    p.add_argument("file", help="CSV file with a header row")
+    p.add_argument("--response", required=True, metavar="COL", help="numeric response column")
+    p.add_argument("--factor", required=True, metavar="COL", help="grouping column")
+    p.add_argument("--alpha", type=float, default=0.05,
+                   help="level used for the plain-words readings (default 0.05)")
+    p.add_argument("--missing", choices=["drop", "raise"], default="drop",
+                   help="drop rows with missing values (reported) or stop")
+    add_format(p)
+    p.set_defaults(run=run)
+
+
+def run(args: argparse.Namespace) -> int:
+    """Read the file exactly, run the checks, print them."""
+    from nestfit._decimal import read_table
+    from nestfit._groups import groups
+    from nestfit.checks import check_assumptions
+
+    table = read_table(args.file, numeric_columns=[args.response], text_columns=[args.factor])
+    offset = table.offset_of(args.response)
+    models = groups(table.frame, args.response, args.factor, missing=args.missing, offset=offset)
+    result = check_assumptions(models, alpha=args.alpha)
+    payload = result.to_dict()
+    payload["missing"] = models.missing.to_dict()
+    text = [str(result)]
+    if models.missing.n_dropped:
+        text.append(f"  {models.missing}")
+    emit(payload, "\n".join(text), args.format)
+    return 0
