@@ -21,10 +21,11 @@ import numpy as np
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
-import nestfit  # noqa: E402
-from nestfit.cli import main  # noqa: E402
 from tests.nist import ANOVA_DIR, anova_names, load_anova, lre  # noqa: E402
 from tests.test_nist_anova import QUANTITIES, _exact_on_floats, _ours  # noqa: E402
+
+import nestfit  # noqa: E402
+from nestfit.cli import main  # noqa: E402
 
 SHORT = {"between_df": "b.df", "between_ss": "b.SS", "between_ms": "b.MS", "f_statistic": "F",
          "within_df": "w.df", "within_ss": "w.SS", "within_ms": "w.MS", "r_squared": "R2",

@@ -392,6 +392,9 @@ def _fit_grouped(
     factor, coding = design.groups.factor, design.groups.coding
     if sums is None:
         sums = group_sums(factor.codes, y, factor.n_levels, weights)
+    block_of = _block_indicator(coding)
+    if block_of is not None:
+        return _fit_block_indicator(block_of, coding.shape[1], sums)
     const = least_squares(coding, np.ones(factor.n_levels), weights=sums.weight_totals,
                           rank_tol=rank_tol, warn=False)
     has_constant = const.residual_ss <= _CONSTANT_TOL * factor.n_levels
@@ -421,6 +424,52 @@ def _fit_grouped(
         "condition": small.condition,
         "group_fitted": np.array(small.fitted, dtype=float),
         "group_leverage": np.array(small.leverages, dtype=float),
+        "shift": sums.shift,
+    }
+
+
+def _block_indicator(coding: np.ndarray) -> np.ndarray | None:
+    """Block of each level when every coding row is a 0/1 row with a single 1, else None."""
+    if not np.all((coding == 0.0) | (coding == 1.0)) or not np.all(coding.sum(axis=1) == 1.0):
+        return None
+    block_of = np.argmax(coding, axis=1)
+    if np.unique(block_of).size != coding.shape[1]:  # an empty column: leave it to the QR path
+        return None
+    return block_of
+
+
+def _fit_block_indicator(block_of: np.ndarray, p: int, sums: GroupSums) -> dict[str, Any]:
+    """Closed form for block-indicator codings (equal means, partitions, cell means).
+
+    The columns are orthogonal indicators, so ``X'WX = diag(W_b)``: the coefficient
+    of block ``b`` is its weighted mean ``sum_{g in b} W_g m_g / W_b``, the unscaled
+    covariance is ``diag(1 / W_b)`` and the leverage of group ``g`` in the small
+    problem is ``W_g / W_b`` (common practice, no source). The tests check this
+    path against the general QR path.
+    """
+    w = sums.weight_totals
+    block_w = np.bincount(block_of, weights=w, minlength=p)
+    block_mean = np.bincount(block_of, weights=w * sums.means, minlength=p) / block_w
+    dev = sums.means - block_mean[block_of]
+    block_mean = block_mean + np.bincount(block_of, weights=w * dev, minlength=p) / block_w
+    fitted = block_mean[block_of]
+    lack = _accurate_sum(w * (sums.means - fitted) ** 2)
+    grand = _accurate_sum(w * sums.means) / _accurate_sum(w)
+    between = _accurate_sum(w * (sums.means - grand) ** 2)
+    within = sums.total_within_ss
+    return {
+        "coefficients": block_mean,
+        "constant_coefficients": np.ones(p),
+        "aliased": np.zeros(p, dtype=bool),
+        "rank": p,
+        "residual_ss": within + lack,
+        "cov_unscaled": np.diag(1.0 / block_w),
+        "total_ss": within + between,
+        "has_constant": True,
+        "method": "grouped",
+        "condition": 1.0,  # orthogonal columns: the column-scaled design is perfectly conditioned
+        "group_fitted": fitted,
+        "group_leverage": w / block_w[block_of],
         "shift": sums.shift,
     }
 

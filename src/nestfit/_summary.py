@@ -202,7 +202,7 @@ def model_work(fit: Fit, label: str) -> ModelWork:
                   if fit.weights is not None else factor.counts.astype(float))
         reduced = coding.shape[1] < factor.n_levels
         hypothesis = cm.hypothesis_matrix(with_intercept=False,
-                                          weights=totals if reduced else None)
+                                          weights=totals.tolist() if reduced else None)
     except (RankDeficientError, ContrastError):
         hypothesis = None
     for arr in (level_rss, fitted) + ((hypothesis,) if hypothesis is not None else ()):
