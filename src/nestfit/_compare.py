@@ -307,7 +307,21 @@ def _check_same_data(a: Fit, b: Fit) -> None:
 
 def _check_nested(small: Fit, large: Fit, tol: float) -> None:
     sg, lg = small.design.groups, large.design.groups
-    if sg is not None and lg is not None and np.array_equal(sg.factor.codes, lg.factor.codes):
+    same_factor = sg is not None and lg is not None and (
+        sg.factor is lg.factor or np.array_equal(sg.factor.codes, lg.factor.codes))
+    if (same_factor and sg is not None and lg is not None and sg.partition is not None
+            and lg.partition is not None):
+        # Partition models: the column spaces are nested exactly when the larger
+        # partition refines the smaller one; no factorisation needed.
+        if not sg.partition.is_nested_in(lg.partition):
+            raise NotNestedError(
+                f"model {small.name!r} is not nested in model {large.name!r}: a block of the "
+                "larger partition spans two blocks of the smaller one; compare only models "
+                "where the smaller is a special case of the larger"
+            )
+        nested, worst, resid = True, None, 0.0
+        columns = small.design.column_names
+    elif same_factor and sg is not None and lg is not None:
         # Both are functions of the same level codes: containment of the
         # column spaces reduces to the k-row coding matrices.
         nested, worst, resid = is_nested(sg.coding, lg.coding, tol=tol)

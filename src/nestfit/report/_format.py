@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-import math
+import math as _math
 import re
 from collections.abc import Iterable, Sequence
 
@@ -24,16 +24,16 @@ def pval(p: float) -> str:
 
 def decimals_for(values: Iterable[float], digits: int = 7) -> int:
     """Decimals that give the largest of ``values`` about ``digits`` significant digits."""
-    finite = [abs(v) for v in values if math.isfinite(v) and v != 0]
+    finite = [abs(v) for v in values if _math.isfinite(v) and v != 0]
     if not finite:
         return 4
-    lead = math.floor(math.log10(max(finite))) + 1
+    lead = _math.floor(_math.log10(max(finite))) + 1
     return int(min(max(digits - lead, 0), 10))
 
 
 def fixed(x: float, decimals: int) -> str:
     """``x`` with a fixed number of decimals (sums of squares in one formula line up)."""
-    if not math.isfinite(x):
+    if not _math.isfinite(x):
         return "inf" if x > 0 else "-inf" if x < 0 else "-"
     return f"{x:.{decimals}f}"
 

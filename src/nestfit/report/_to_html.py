@@ -31,7 +31,7 @@ from nestfit.report._document import (
 from nestfit.report._escape import html_text
 from nestfit.report._style import PAGE_CSS
 
-__all__ = ["CSP", "render_html", "render_html_fragment"]
+__all__ = ["CSP", "render_html", "render_html_fragment", "render_html_sections"]
 
 CSP = "default-src 'none'; img-src data:; style-src 'unsafe-inline'"
 
@@ -144,3 +144,15 @@ def render_html_fragment(blocks: Sequence[Block], title: str = "") -> str:
     head = f"<strong>{html_text(title)}</strong>" if title else ""
     body = "\n".join(_block(b, None) for b in blocks)
     return f'<div class="nestfit-result"><style>{FRAGMENT_CSS}</style>{head}\n{body}</div>'
+
+
+def render_html_sections(doc: Document) -> str:
+    """The document's title and sections as a fragment (for notebooks): no page, scoped style."""
+    from nestfit.report._style import FRAGMENT_CSS
+
+    used: set[str] = set()
+    counters = {"table": 0, "figure": 0}
+    body = "\n".join(_section(s, "nestfit-" + slug(s.anchor or s.title, used), counters)
+                     for s in doc.sections)
+    return (f'<div class="nestfit-result"><style>{FRAGMENT_CSS}</style>'
+            f"<h1>{html_text(doc.title)}</h1>\n{body}</div>")
