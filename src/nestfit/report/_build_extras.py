@@ -57,7 +57,7 @@ def means_section(a: WorkedAnalysis, figures: dict[str, Figure]) -> Section:
         "error (a t quantile), covers its own level mean with that probability."]
     if sim is not None:
         text.append(
-            f" The simultaneous intervals ({sim.interval}), mean -/+ "
+            f" The simultaneous intervals ({sim.method_name}), mean -/+ "
             f"{num(sim.critical_value, 4)} x std error, cover all {len(sim.rows)} level means at "
             f"once with probability at least {sim.level:.0%}; use them when several means are "
             "read together.")
@@ -70,19 +70,21 @@ def means_section(a: WorkedAnalysis, figures: dict[str, Figure]) -> Section:
     return Section("Level means with intervals", tuple(blocks))
 
 
-def _estimate_line(r: FamilyResult, row_index: int) -> tuple[Inline, ...]:
+def _estimate_lines(r: FamilyResult, row_index: int) -> list[tuple[Inline, ...]]:
     row = r.rows[row_index]
     means = dict(zip(r.levels, r.level_means))
     terms = [(w, means[lv]) for lv, w in row.weights if lv in means]
+    lines: list[tuple[Inline, ...]] = [
+        (Code(row.label), ": ", math(("estimate = sum_i w_i m_i",
+                                      r"\hat\psi = \sum_i w_i \bar y_i")))]
     if terms and len(terms) == len(row.weights) and len(terms) <= _MAX_TERMS:
         body = " + ".join(f"({num(w, 4)})({num(m)})" for w, m in terms)
-        expansion = (f" = {body}", rf" = {body}")
+        lines.append((math(("= " + body, "= " + body), " = ", num(row.estimate)),))
     else:
-        expansion = ("", "")
-    return (Code(row.label), ": ",
-            math(("estimate = sum_i w_i m_i", r"\hat\psi = \sum_i w_i \bar y_i"), expansion,
-                 " = ", num(row.estimate), ("; t = estimate / SE = ", r";\quad t = \hat\psi / SE = "),
-                 num(row.estimate), " / ", num(row.std_error), " = ", num(row.t, 4)))
+        lines.append((math("= ", num(row.estimate)),))
+    lines.append((math(("t = estimate / SE = ", r"t = \hat\psi / SE = "), num(row.estimate),
+                       " / ", num(row.std_error), " = ", num(row.t, 4)),))
+    return lines
 
 
 def _threshold_text(tr: AdjustmentTrace, i: int, value: float) -> str:
@@ -179,7 +181,7 @@ def contrasts_section(a: WorkedAnalysis, figures: dict[str, Figure]) -> Section 
                else ("SE = sqrt(c' Cov(b) c), c the contrast written on the coefficients",
                      r"SE = \sqrt{c^\top \widehat{\mathrm{Cov}}(b)\, c}"))
     worked = min(len(r.rows), _WORKED_CONTRASTS)
-    lines = [_estimate_line(r, i) for i in range(worked)]
+    lines = [line for i in range(worked) for line in _estimate_lines(r, i)]
     blocks.append(Paragraph((
         "Each estimate is the weighted sum of the level means; its standard error is ",
         math(se_rule), f". Worked out for the first {worked}:" if worked < len(r.rows)

@@ -191,7 +191,7 @@ def comparison_sections(a: WorkedAnalysis, figures: dict[str, Figure]) -> list[S
     return out
 
 
-def _mean_line(a: WorkedAnalysis, j: int) -> tuple[Inline, ...]:
+def _mean_lines(a: WorkedAnalysis, j: int) -> list[tuple[Inline, ...]]:
     reg = a.regression
     coding = reg.fit.design.groups.coding if reg.fit.design.groups is not None else None
     assert coding is not None
@@ -208,9 +208,12 @@ def _mean_line(a: WorkedAnalysis, j: int) -> tuple[Inline, ...]:
         sub.append((f" {sign} {scale}{shown}", f" {sign} {tex_scale}{shown}"))
     first_sym = (sym[0][0].replace(" + ", "", 1), sym[0][1].replace(" + ", "", 1))
     first_sub = (sub[0][0].replace(" + ", "", 1), sub[0][1].replace(" + ", "", 1))
-    pieces: list[str | tuple[str, str]] = [first_sym, *sym[1:], " = ", first_sub, *sub[1:],
-                                           " = ", num(float(reg.fitted_means[j]))]
-    return (Code(a.levels[j]), ": ", math(*pieces))
+    symbolic: list[str | tuple[str, str]] = [first_sym, *sym[1:]]
+    substituted: list[str | tuple[str, str]] = ["= ", first_sub, *sub[1:], " = ",
+                                                num(float(reg.fitted_means[j]))]
+    if len(sym) <= 3:
+        return [(Code(a.levels[j]), ": ", math(*symbolic, " ", *substituted))]
+    return [(Code(a.levels[j]), ": ", math(*symbolic)), (math(*substituted),)]
 
 
 def regression_section(a: WorkedAnalysis) -> Section:
@@ -246,7 +249,7 @@ def regression_section(a: WorkedAnalysis) -> Section:
     blocks.append(Paragraph((
         "Going the other way, each level's fitted mean is its design row times the "
         "coefficients:",)))
-    blocks.append(Formula(tuple(_mean_line(a, j) for j in range(len(a.levels)))))
+    blocks.append(Formula(tuple(line for j in range(len(a.levels)) for line in _mean_lines(a, j))))
     separate = next((m for m in a.models if m.fit.rank == len(a.levels)), None)
     same = ("" if separate is None else
             f", the residual SS of {separate.label} ({separate.fit.name}) above")

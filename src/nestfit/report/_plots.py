@@ -190,7 +190,7 @@ def plot_level_means(analysis: WorkedAnalysis, *, units: str | None = None) -> F
     _level_axis(ax, analysis.levels, analysis.factor)
     ax.set_ylabel(_response_label(analysis.response, units))
     ax.autoscale_view()
-    ax.legend(handles=handles, loc="best", fontsize=9)
+    fig.legend(handles=handles, loc="outside lower center", ncols=len(handles), fontsize=9)
     return fig
 
 

@@ -34,7 +34,7 @@ def _inline(parts: Sequence[Inline]) -> str:
         if isinstance(part, Math):
             out.append(part.plain)
         elif isinstance(part, Code):
-            out.append(terminal_text(part.text))
+            out.append(f"'{terminal_text(part.text)}'")
         elif isinstance(part, Strong):
             out.append(terminal_text(part.text).upper())
         else:
@@ -64,7 +64,8 @@ def _block(b: Block, counters: dict[str, int], files: Mapping[str, str]) -> str:
     if isinstance(b, BulletList):
         return "\n".join(_wrap(_inline(item), indent="    ", first="  - ") for item in b.items)
     if isinstance(b, Formula):
-        return "\n".join("    " + _inline(line) for line in b.lines)
+        lines = [_inline(line) for line in b.lines]
+        return "\n".join(("        " if t.startswith("= ") else "    ") + t for t in lines)
     if isinstance(b, Table):
         counters["table"] += 1
         return _table(b, counters["table"])
