@@ -21,7 +21,7 @@ demo: $(STAMP)
 # synchronisation cost there, and more so on a loaded machine.
 TEST_ENV := OPENBLAS_NUM_THREADS=1 OMP_NUM_THREADS=1 MKL_NUM_THREADS=1
 
-test: $(STAMP)
+test: $(STAMP) browser
 	$(TEST_ENV) $(PY) -m pytest -q
 
 test-fast: $(STAMP)
@@ -36,3 +36,9 @@ bench: $(STAMP)
 
 clean:
 	rm -rf $(VENV) build dist src/*.egg-info .pytest_cache .mypy_cache .ruff_cache
+
+# Headless Chromium (Debian's package) for the page tests in tests/report; they skip without it.
+.PHONY: browser
+browser:
+	@command -v chromium >/dev/null || (apt-get update -qq && apt-get install -y -qq chromium) \
+		|| echo "chromium could not be installed: the page tests in tests/report will skip"

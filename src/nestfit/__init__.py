@@ -16,7 +16,7 @@ compare(*fits)
 
 from __future__ import annotations
 
-from nestfit import checks, contrasts, datasets, effects, errors, power, tables
+from nestfit import checks, contrasts, datasets, effects, errors, power, report, tables
 from nestfit._compare import Comparison, ModelSummary, Step, compare
 from nestfit._data import MissingReport
 from nestfit._fit import Fit
@@ -70,6 +70,7 @@ from nestfit.design import (
 )
 from nestfit.effects import contrast_effect, effect_sizes
 from nestfit.power import plan_comparison, plan_contrast, plan_effect_size
+from nestfit.report import Report, worked_report
 from nestfit.tables import FactorialModels, SumsOfSquaresTable, factorial
 
 __version__ = "0.1.0"
@@ -101,6 +102,7 @@ __all__ = [
     "Partition",
     "Polynomial",
     "Reference",
+    "Report",
     "Step",
     "SuccessiveDifferences",
     "SumsOfSquaresTable",
@@ -132,6 +134,7 @@ __all__ = [
     "plan_contrast",
     "plan_effect_size",
     "power",
+    "report",
     "residual_diagnostics",
     "shapiro_wilk",
     "tables",
@@ -140,4 +143,5 @@ __all__ = [
     "versus_rest",
     "welch_anova",
     "welch_contrast",
+    "worked_report",
 ]

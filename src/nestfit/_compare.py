@@ -172,6 +172,11 @@ class Comparison:
     def _repr_pretty_(self, p: Any, cycle: bool) -> None:  # IPython
         p.text(str(self))
 
+    def _repr_html_(self) -> str:  # Jupyter
+        from nestfit.report._repr import comparison_html
+
+        return comparison_html(self)
+
 
 def _finite_or_none(x: float) -> float | None:
     return float(x) if math.isfinite(x) else None

@@ -253,6 +253,11 @@ class Fit:
     def _repr_pretty_(self, p: Any, cycle: bool) -> None:  # IPython
         p.text(str(self))
 
+    def _repr_html_(self) -> str:  # Jupyter
+        from nestfit.report._repr import fit_html
+
+        return fit_html(self)
+
 
 def _none_if_nan(x: float) -> float | None:
     return None if x is None or not math.isfinite(float(x)) else float(x)

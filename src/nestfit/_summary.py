@@ -310,8 +310,9 @@ def worked_analysis(
     if models is None:
         models = models_of(comparison.fits[0])
     elif not np.array_equal(models.factor.codes, factor.codes):
-        raise ModelError(f"the group models are of factor {models.factor.name!r} on other rows "
-                         "than the comparison's fits; pass the builder the fits came from")
+        raise ModelError(f"the group models are of factor {models.factor.name!r}, not the factor "
+                         f"{factor.name!r} of the comparison (or not on its rows); pass the "
+                         "builder the fits came from")
     work = tuple(model_work(f, f"M{i}") for i, f in enumerate(comparison.fits))
     regression_fit = models.separate_means(coding)
     regression = model_work(regression_fit, "R")

@@ -176,6 +176,11 @@ class FamilyResult:
     def _repr_pretty_(self, p: Any, cycle: bool) -> None:  # IPython
         p.text(str(self))
 
+    def _repr_html_(self) -> str:  # Jupyter; the renderer is loaded only when asked for
+        from nestfit.report._repr import family_html
+
+        return family_html(self)
+
 
 def check_alpha(alpha: Any) -> float:
     """A significance level strictly between 0 and 1."""

@@ -34,8 +34,8 @@ from nestfit.report._document import (
 )
 from nestfit.report._plots import plot_contrasts, plot_level_means, plot_nested_models, plot_power
 from nestfit.report._plots_residuals import plot_residuals
-from nestfit.report._repr import comparison_html, family_html, fit_html
 from nestfit.report._report import FORMATS, Report, format_of, worked_report
+from nestfit.report._repr import comparison_html, family_html, fit_html
 from nestfit.report._style import PALETTE
 from nestfit.report._to_html import render_html
 from nestfit.report._to_latex import render_latex

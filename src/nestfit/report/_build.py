@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any
@@ -137,7 +138,7 @@ def make_figures(a: WorkedAnalysis, opts: Options) -> tuple[dict[str, Figure], s
             "observation, each bar a fitted level mean, each grey segment a residual.",
             f"Two panels of {a.response} by {a.factor}, showing the observations with the fitted "
             f"means of {s.label} and of {b.label} and the residual of every observation.",
-            lambda i=i: plot_nested_models(a, i, units=units))
+            functools.partial(plot_nested_models, a, i, units=units))
     add("level-means", "Level means with intervals, one level at a time (thick) and "
         "simultaneous over all levels (thin).",
         f"The mean of {a.response} in each level of {a.factor} with two intervals each.",

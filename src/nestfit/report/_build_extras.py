@@ -106,6 +106,8 @@ def _trace_blocks(tr: AdjustmentTrace) -> list[Block]:
     blocks: list[Block] = [Paragraph((
         f"The adjustment, step by step ({tr.method_name}, m = {tr.m} hypotheses, alpha = "
         f"{tr.alpha:g}): {tr.rule}.",))]
+    headers: tuple[str, ...]
+    rows: tuple[tuple[str, ...], ...]
     if tr.kind == "critical-value":
         headers = ("order", "contrast", "t", "critical value", "beyond it", "adjusted p",
                    "rejected")
@@ -148,9 +150,13 @@ def _outcome(tr: AdjustmentTrace) -> str:
         last = max((t.rank for t in tr.rows if t.passes), default=0)
         if last == 0:
             return "No p-value passes its threshold, so no hypothesis is rejected."
-        return (f"The last step whose p-value passes its threshold is step {last}: the "
-                f"hypotheses at steps 1 to {last} are rejected, even those whose own p-value "
-                "is above its threshold.")
+        which = ("the hypothesis at step 1 is rejected" if last == 1
+                 else f"the hypotheses at steps 1 to {last} are rejected")
+        early_fail = any(t.passes is False for t in tr.rows if t.rank < last)
+        also = (", including those whose own p-value is above its threshold" if early_fail
+                else "")
+        return (f"The last step whose p-value passes its threshold is step {last}: "
+                f"{which}{also}.")
     if tr.kind in ("single", "critical-value") and any(p is not None for p in passes):
         return "Each hypothesis is decided on its own against the same threshold."
     return ""
@@ -206,8 +212,9 @@ def checks_section(a: WorkedAnalysis, figures: dict[str, Figure]) -> Section | N
         "evidence against equal variances and normal errors; none can show that an assumption "
         "holds.",))]
     if a.checks is not None:
-        rows = tuple((t.name, t.null_hypothesis, t.distribution, num(t.statistic, 5),
-                      t.df_text(), pval(t.p)) for t in a.checks.tests)
+        rows: tuple[tuple[str, ...], ...] = tuple(
+            (t.name, t.null_hypothesis, t.distribution, num(t.statistic, 5), t.df_text(),
+             pval(t.p)) for t in a.checks.tests)
         blocks.append(Table(("test", "null hypothesis", "distribution", "statistic", "df", "p"),
                             rows, align="lllrrr", caption="Tests of the assumptions, and "
                             "Welch's test of equal means without equal variances."))

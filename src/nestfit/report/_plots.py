@@ -50,7 +50,8 @@ def styled(func: F) -> F:
     def wrapper(*args: Any, **kwargs: Any) -> Any:
         import matplotlib
 
-        with matplotlib.rc_context(figure_rc()):
+        rc: Any = figure_rc()
+        with matplotlib.rc_context(rc):
             return func(*args, **kwargs)
 
     return wrapper  # type: ignore[return-value]
@@ -73,7 +74,8 @@ def png_bytes(fig: Figure) -> bytes:
     import matplotlib
 
     buf = io.BytesIO()
-    with matplotlib.rc_context(figure_rc()):
+    rc: Any = figure_rc()
+    with matplotlib.rc_context(rc):
         fig.savefig(buf, format="png")
     return buf.getvalue()
 
@@ -96,7 +98,7 @@ def _model_panel(ax: Axes, work: ModelWork, x: np.ndarray, y: np.ndarray, codes:
 
     fitted = work.fitted_means
     segments = np.stack([np.column_stack([x, fitted[codes]]), np.column_stack([x, y])], axis=1)
-    residuals = LineCollection(segments, colors=PALETTE["light"], linewidths=0.9, zorder=1)
+    residuals = LineCollection(list(segments), colors=PALETTE["light"], linewidths=0.9, zorder=1)
     residuals.set_gid("residuals")
     ax.add_collection(residuals)
     points = ax.scatter(x, y, s=14, color=PALETTE["grey"], edgecolors="none", zorder=2)
@@ -174,8 +176,8 @@ def plot_level_means(analysis: WorkedAnalysis, *, units: str | None = None) -> F
                                colors=PALETTE["orange"], linewidths=1.4, zorder=2)
         lines.set_gid("simultaneous intervals")
         ax.add_collection(lines)
-        handles.append(Line2D([], [], color=PALETTE["orange"], linewidth=1.4,
-                              label=label_text(f"simultaneous {sim.level:.0%} ({sim.method_name})")))
+        name = label_text(f"simultaneous {sim.level:.0%} ({sim.method_name})")
+        handles.append(Line2D([], [], color=PALETTE["orange"], linewidth=1.4, label=name))
     lines = LineCollection([[(j, r.lower), (j, r.upper)] for j, r in enumerate(ordinary.rows)],
                            colors=PALETTE["blue"], linewidths=4.0, zorder=3)
     lines.set_gid("ordinary intervals")

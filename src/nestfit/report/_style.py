@@ -69,8 +69,10 @@ h2 { font-size: 1.45rem; margin: 2.2rem 0 0.6rem; padding-bottom: 0.25rem;
 h3 { font-size: 1.15rem; margin: 1.6rem 0 0.4rem; }
 nav { background: #f3f6fa; border: 1px solid #d5dde8; padding: 0.6rem 1.2rem; margin: 1rem 0; }
 nav h2 { font-size: 1rem; border: 0; margin: 0.3rem 0; padding: 0; }
-nav ol { margin: 0.2rem 0 0.4rem; padding-left: 1.2rem; columns: 2; }
-nav li.toc-3 { margin-left: 1rem; font-size: 0.92rem; list-style: circle; }
+nav ol { margin: 0.2rem 0 0.4rem; padding-left: 1.4rem; columns: 2; }
+nav li { break-inside: avoid; }
+nav ul { margin: 0.1rem 0 0.2rem; padding-left: 1.1rem; font-size: 0.92rem;
+  list-style: circle; }
 a { color: #1a4f8c; }
 code, .math, .formula { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace;
   font-size: 0.9em; }
@@ -80,7 +82,7 @@ code { background: #f1f1f1; padding: 0 0.2em; border-radius: 3px; }
 .formula .line { margin: 0.15rem 0; }
 .table-wrap { overflow-x: auto; margin: 0.8rem 0 1.1rem; }
 table { border-collapse: collapse; font-size: 0.92rem; font-variant-numeric: tabular-nums; }
-caption { text-align: left; font-weight: bold; padding: 0.3rem 0; color: #2b2b2b; }
+p.caption { font-weight: bold; margin: 0 0 0.3rem; color: #2b2b2b; font-size: 0.95rem; }
 th, td { padding: 0.25rem 0.7rem; border-bottom: 1px solid #dcdcdc; vertical-align: top; }
 th { background: #eef2f7; text-align: left; border-bottom: 2px solid #9aa9bb; }
 td.num, th.num { text-align: right; white-space: nowrap; }
@@ -101,6 +103,6 @@ FRAGMENT_CSS = """
 .nestfit-result th, .nestfit-result td { padding: 0.2rem 0.6rem;
   border-bottom: 1px solid #dcdcdc; }
 .nestfit-result td.num, .nestfit-result th.num { text-align: right; }
-.nestfit-result caption { text-align: left; font-weight: bold; }
+.nestfit-result p.caption { font-weight: bold; margin: 0.3rem 0; }
 .nestfit-result .formula { font-family: monospace; white-space: pre-wrap; }
 """

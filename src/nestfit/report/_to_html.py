@@ -53,7 +53,7 @@ def _inline(parts: Sequence[Inline]) -> str:
 def _plain(parts: Sequence[Inline]) -> str:
     return "".join(html_text(p.plain) if isinstance(p, Math)
                    else f"<code>{html_text(p.text)}</code>" if isinstance(p, Code)
-                   else html_text(getattr(p, "text", p)) for p in parts)
+                   else html_text(p if isinstance(p, str) else p.text) for p in parts)
 
 
 def _table(t: Table, number: int | None) -> str:
@@ -64,8 +64,8 @@ def _table(t: Table, number: int | None) -> str:
     caption = ""
     if t.caption:
         label = f"Table {number}. " if number is not None else ""
-        caption = f"<caption>{html_text(label + t.caption)}</caption>"
-    return (f'<div class="table-wrap"><table>{caption}<thead><tr>{head}</tr></thead>'
+        caption = f'<p class="caption">{html_text(label + t.caption)}</p>'
+    return (f'<div class="table-wrap">{caption}<table><thead><tr>{head}</tr></thead>'
             f"<tbody>\n{rows}\n</tbody></table></div>")
 
 
@@ -105,14 +105,32 @@ def _section(s: Section, anchor: str, counters: dict[str, int]) -> str:
             "</section>")
 
 
+def _toc(sections: Sequence[Section], anchors: Sequence[str]) -> str:
+    items: list[str] = []
+    subs: list[str] = []
+
+    def close() -> None:
+        if subs and items:
+            items[-1] = items[-1][:-5] + "<ul>" + "".join(subs) + "</ul></li>"
+        subs.clear()
+
+    for s, a in zip(sections, anchors):
+        link = f'<a href="#{a}">{html_text(s.title)}</a>'
+        if s.level <= 2 or not items:
+            close()
+            items.append(f"<li>{link}</li>")
+        else:
+            subs.append(f"<li>{link}</li>")
+    close()
+    return "".join(items)
+
+
 def render_html(doc: Document) -> str:
     """The document as one self-contained HTML page (see the module documentation)."""
     used: set[str] = set()
     anchors = [slug(s.anchor or s.title, used) for s in doc.sections]
     counters = {"table": 0, "figure": 0}
-    toc = "".join(
-        f'<li class="toc-{min(max(s.level, 2), 3)}"><a href="#{a}">{html_text(s.title)}</a></li>'
-        for s, a in zip(doc.sections, anchors))
+    toc = _toc(doc.sections, anchors)
     sections = "\n".join(_section(s, a, counters) for s, a in zip(doc.sections, anchors))
     subtitle = f'<p class="subtitle">{html_text(doc.subtitle)}</p>' if doc.subtitle else ""
     return "\n".join([

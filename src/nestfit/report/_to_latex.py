@@ -92,7 +92,8 @@ def _block(b: Block, files: Mapping[str, str]) -> str:
     assert isinstance(b, Figure)
     caption = rf"\caption{{{latex_text(b.caption)}}}"
     if b.name not in files:
-        return rf"\begin{{figure}}[htbp]\centering\fbox{{figure not written}}{caption}\end{{figure}}"
+        return (r"\begin{figure}[htbp]\centering\fbox{figure not written}" + caption
+                + r"\end{figure}")
     return "\n".join([r"\begin{figure}[htbp]", r"\centering",
                       rf"\includegraphics[width=0.95\linewidth]{{{files[b.name]}}}",
                       caption, r"\end{figure}"])

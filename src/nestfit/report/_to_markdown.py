@@ -40,7 +40,8 @@ def _inline(parts: Sequence[Inline]) -> str:
 
 
 def _plain(parts: Sequence[Inline]) -> str:
-    return "".join(p.plain if isinstance(p, Math) else terminal_text(getattr(p, "text", p))
+    return "".join(p.plain if isinstance(p, Math) else terminal_text(p if isinstance(p, str)
+                                                                     else p.text)
                    for p in parts)
 
 
