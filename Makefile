@@ -15,7 +15,7 @@ $(STAMP): pyproject.toml
 install: $(STAMP)
 
 demo: $(STAMP)
-	$(VENV)/bin/nestfit demo
+	$(VENV)/bin/nestfit demo --out demo-report
 
 # The suite solves thousands of tiny least-squares problems; BLAS threads only add
 # synchronisation cost there, and more so on a loaded machine.
