@@ -12,6 +12,7 @@ numbers and fixed symbols only, never from user data.
 from __future__ import annotations
 
 import re
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
 __all__ = [
@@ -22,6 +23,7 @@ __all__ = [
     "Figure",
     "Formula",
     "Inline",
+    "InlineStyle",
     "Math",
     "Note",
     "Paragraph",
@@ -58,6 +60,30 @@ class Math:
 
 
 Inline = str | Code | Strong | Math
+
+
+@dataclass(frozen=True)
+class InlineStyle:
+    """How one renderer writes each kind of inline piece (already escaped for its format)."""
+
+    text: Callable[[str], str]
+    code: Callable[[str], str]
+    strong: Callable[[str], str]
+    math: Callable[[Math], str]
+
+    def join(self, parts: Sequence[Inline]) -> str:
+        """The pieces rendered one by one and joined."""
+        out = []
+        for part in parts:
+            if isinstance(part, Math):
+                out.append(self.math(part))
+            elif isinstance(part, Code):
+                out.append(self.code(part.text))
+            elif isinstance(part, Strong):
+                out.append(self.strong(part.text))
+            else:
+                out.append(self.text(part))
+        return "".join(out)
 
 
 @dataclass(frozen=True)

@@ -15,16 +15,13 @@ from collections.abc import Sequence
 from nestfit.report._document import (
     Block,
     BulletList,
-    Code,
     Document,
     Figure,
     Formula,
-    Inline,
-    Math,
+    InlineStyle,
     Note,
     Paragraph,
     Section,
-    Strong,
     Table,
     slug,
 )
@@ -36,24 +33,18 @@ __all__ = ["CSP", "render_html", "render_html_fragment", "render_html_sections"]
 CSP = "default-src 'none'; img-src data:; style-src 'unsafe-inline'"
 
 
-def _inline(parts: Sequence[Inline]) -> str:
-    out = []
-    for part in parts:
-        if isinstance(part, Math):
-            out.append(f'<span class="math">{html_text(part.plain)}</span>')
-        elif isinstance(part, Code):
-            out.append(f"<code>{html_text(part.text)}</code>")
-        elif isinstance(part, Strong):
-            out.append(f"<strong>{html_text(part.text)}</strong>")
-        else:
-            out.append(html_text(part))
-    return "".join(out)
+def _code(text: str) -> str:
+    return f"<code>{html_text(text)}</code>"
 
 
-def _plain(parts: Sequence[Inline]) -> str:
-    return "".join(html_text(p.plain) if isinstance(p, Math)
-                   else f"<code>{html_text(p.text)}</code>" if isinstance(p, Code)
-                   else html_text(p if isinstance(p, str) else p.text) for p in parts)
+_INLINE = InlineStyle(
+    text=html_text, code=_code, strong=lambda t: f"<strong>{html_text(t)}</strong>",
+    math=lambda m: f'<span class="math">{html_text(m.plain)}</span>',
+)
+# formula lines: the line is already set in a formula face, so no markup but code
+_FORMULA = InlineStyle(text=html_text, code=_code, strong=html_text,
+                       math=lambda m: html_text(m.plain))
+_inline, _plain = _INLINE.join, _FORMULA.join
 
 
 def _table(t: Table, number: int | None) -> str:

@@ -2,21 +2,18 @@
 
 from __future__ import annotations
 
-from collections.abc import Mapping, Sequence
+from collections.abc import Mapping
 
 from nestfit.report._document import (
     Block,
     BulletList,
-    Code,
     Document,
     Figure,
     Formula,
-    Inline,
-    Math,
+    InlineStyle,
     Note,
     Paragraph,
     Section,
-    Strong,
     Table,
 )
 from nestfit.report._escape import latex_text
@@ -36,32 +33,17 @@ PREAMBLE = r"""\documentclass[11pt]{article}
 """
 
 
-def _inline(parts: Sequence[Inline]) -> str:
-    out = []
-    for part in parts:
-        if isinstance(part, Math):
-            out.append(f"${part.tex}$")
-        elif isinstance(part, Code):
-            out.append(rf"\texttt{{{latex_text(part.text)}}}")
-        elif isinstance(part, Strong):
-            out.append(rf"\textbf{{{latex_text(part.text)}}}")
-        else:
-            out.append(latex_text(part))
-    return "".join(out)
-
-
-def _math_line(parts: Sequence[Inline]) -> str:
-    out = []
-    for part in parts:
-        if isinstance(part, Math):
-            out.append(part.tex)
-        elif isinstance(part, Code):
-            out.append(rf"\text{{\texttt{{{latex_text(part.text)}}}}}")
-        elif isinstance(part, Strong):
-            out.append(rf"\text{{\textbf{{{latex_text(part.text)}}}}}")
-        else:
-            out.append(rf"\text{{{latex_text(part)}}}")
-    return "".join(out)
+_INLINE = InlineStyle(
+    text=latex_text, code=lambda t: rf"\texttt{{{latex_text(t)}}}",
+    strong=lambda t: rf"\textbf{{{latex_text(t)}}}", math=lambda m: f"${m.tex}$",
+)
+# formula lines are set in math mode: text goes inside \text{...}
+_MATH_LINE = InlineStyle(
+    text=lambda t: rf"\text{{{latex_text(t)}}}",
+    code=lambda t: rf"\text{{\texttt{{{latex_text(t)}}}}}",
+    strong=lambda t: rf"\text{{\textbf{{{latex_text(t)}}}}}", math=lambda m: m.tex,
+)
+_inline, _math_line = _INLINE.join, _MATH_LINE.join
 
 
 def _table(t: Table) -> str:

@@ -8,16 +8,13 @@ from collections.abc import Mapping, Sequence
 from nestfit.report._document import (
     Block,
     BulletList,
-    Code,
     Document,
     Figure,
     Formula,
-    Inline,
-    Math,
+    InlineStyle,
     Note,
     Paragraph,
     Section,
-    Strong,
     Table,
 )
 from nestfit.report._escape import markdown_cell, markdown_code, markdown_text, terminal_text
@@ -25,24 +22,14 @@ from nestfit.report._escape import markdown_cell, markdown_code, markdown_text, 
 __all__ = ["render_markdown"]
 
 
-def _inline(parts: Sequence[Inline]) -> str:
-    out = []
-    for part in parts:
-        if isinstance(part, Math):
-            out.append(markdown_code(part.plain))
-        elif isinstance(part, Code):
-            out.append(markdown_code(part.text))
-        elif isinstance(part, Strong):
-            out.append(f"**{markdown_text(part.text)}**")
-        else:
-            out.append(markdown_text(part))
-    return "".join(out)
-
-
-def _plain(parts: Sequence[Inline]) -> str:
-    return "".join(p.plain if isinstance(p, Math) else terminal_text(p if isinstance(p, str)
-                                                                     else p.text)
-                   for p in parts)
+_INLINE = InlineStyle(
+    text=markdown_text, code=markdown_code, strong=lambda t: f"**{markdown_text(t)}**",
+    math=lambda m: markdown_code(m.plain),
+)
+# formula lines go inside a fenced block, where Markdown shows text literally
+_FENCED = InlineStyle(text=terminal_text, code=terminal_text, strong=terminal_text,
+                      math=lambda m: m.plain)
+_inline, _plain = _INLINE.join, _FENCED.join
 
 
 def _table(t: Table, number: int) -> str:

@@ -3,22 +3,19 @@
 from __future__ import annotations
 
 import textwrap
-from collections.abc import Mapping, Sequence
+from collections.abc import Mapping
 
 from nestfit._text import text_table
 from nestfit.report._document import (
     Block,
     BulletList,
-    Code,
     Document,
     Figure,
     Formula,
-    Inline,
-    Math,
+    InlineStyle,
     Note,
     Paragraph,
     Section,
-    Strong,
     Table,
 )
 from nestfit.report._escape import terminal_text
@@ -28,18 +25,10 @@ __all__ = ["render_text"]
 WIDTH = 88
 
 
-def _inline(parts: Sequence[Inline]) -> str:
-    out = []
-    for part in parts:
-        if isinstance(part, Math):
-            out.append(part.plain)
-        elif isinstance(part, Code):
-            out.append(f"'{terminal_text(part.text)}'")
-        elif isinstance(part, Strong):
-            out.append(terminal_text(part.text).upper())
-        else:
-            out.append(terminal_text(part))
-    return "".join(out)
+_inline = InlineStyle(
+    text=terminal_text, code=lambda t: f"'{terminal_text(t)}'",
+    strong=lambda t: terminal_text(t).upper(), math=lambda m: m.plain,
+).join
 
 
 def _wrap(text: str, indent: str = "", first: str | None = None) -> str:
