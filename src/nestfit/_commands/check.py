@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
-from nestfit._commands._common import add_format, emit
+from nestfit._commands._common import add_format, add_group_input, emit, read_groups
 
 __all__ = ["register", "run"]
 
@@ -24,26 +24,18 @@ def register(sub: Any) -> None:
             "for Shapiro-Wilk."
         ),
     )
-    p.add_argument("file", help="CSV file with a header row")
-    p.add_argument("--response", required=True, metavar="COL", help="numeric response column")
-    p.add_argument("--factor", required=True, metavar="COL", help="grouping column")
+    add_group_input(p)
     p.add_argument("--alpha", type=float, default=0.05,
                    help="level used for the plain-words readings (default 0.05)")
-    p.add_argument("--missing", choices=["drop", "raise"], default="drop",
-                   help="drop rows with missing values (reported) or stop")
     add_format(p)
     p.set_defaults(run=run)
 
 
 def run(args: argparse.Namespace) -> int:
     """Read the file exactly, run the checks, print them."""
-    from nestfit._decimal import read_table
-    from nestfit._groups import groups
     from nestfit.checks import check_assumptions
 
-    table = read_table(args.file, numeric_columns=[args.response], text_columns=[args.factor])
-    offset = table.offset_of(args.response)
-    models = groups(table.frame, args.response, args.factor, missing=args.missing, offset=offset)
+    models = read_groups(args)
     result = check_assumptions(models, alpha=args.alpha)
     payload = result.to_dict()
     payload["missing"] = models.missing.to_dict()

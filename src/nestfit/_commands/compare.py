@@ -5,7 +5,7 @@ from __future__ import annotations
 import argparse
 from typing import Any
 
-from nestfit._commands._common import add_format, emit
+from nestfit._commands._common import add_format, add_group_input, emit
 
 __all__ = ["register", "run"]
 
@@ -21,17 +21,13 @@ def register(sub: Any) -> None:
             "variance); each --blocks adds a partition model between them, in refinement order."
         ),
     )
-    p.add_argument("file", help="CSV file with a header row")
-    p.add_argument("--response", required=True, metavar="COL", help="numeric response column")
-    p.add_argument("--factor", required=True, metavar="COL", help="grouping column")
+    add_group_input(p)
     p.add_argument(
         "--blocks", action="append", default=[], metavar="SPEC",
         help='a partition of the levels, e.g. "A | B C" ("..." = the remaining levels); repeatable',
     )
     p.add_argument("--denominator", choices=["largest", "each"], default="largest",
                    help="error mean square for every F: the largest model's, or each step's")
-    p.add_argument("--missing", choices=["drop", "raise"], default="drop",
-                   help="drop rows with missing values (reported) or stop")
     add_format(p)
     p.set_defaults(run=run)
 

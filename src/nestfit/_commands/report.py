@@ -8,6 +8,8 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
+from nestfit._commands._common import add_group_input, family_from_args, read_groups
+
 __all__ = ["progress_printer", "register", "run"]
 
 
@@ -26,9 +28,7 @@ def register(sub: Any) -> None:
             "files beside it), .txt."
         ),
     )
-    p.add_argument("file", help="CSV file with a header row")
-    p.add_argument("--response", required=True, metavar="COL", help="numeric response column")
-    p.add_argument("--factor", required=True, metavar="COL", help="grouping column")
+    add_group_input(p)
     p.add_argument("--out", required=True, metavar="PATH",
                    help="output file: report.html, report.md, report.tex or report.txt")
     p.add_argument("--blocks", action="append", default=[], metavar="SPEC",
@@ -56,8 +56,6 @@ def register(sub: Any) -> None:
     p.add_argument("--levels", metavar="A,B,C", help="level order, comma-separated")
     p.add_argument("--seed", type=int, default=0,
                    help="seed of the multivariate-t integration (dunnett, max-t; default: 0)")
-    p.add_argument("--missing", choices=["drop", "raise"], default="drop",
-                   help="drop rows with missing values (reported) or stop")
     p.add_argument("--title", default="", help="title of the report")
     p.add_argument("--question", default="", help="the question the analysis answers")
     p.add_argument("--units", default="", help="units of the response, e.g. g")
@@ -80,8 +78,6 @@ def progress_printer(args: argparse.Namespace, command: str) -> Callable[[str], 
 
 def run(args: argparse.Namespace) -> int:
     """Read the file exactly, fit and compare the models, write the report."""
-    from nestfit._decimal import read_table
-    from nestfit._groups import groups
     from nestfit.checks import check_assumptions, residual_diagnostics
     from nestfit.errors import DataError
     from nestfit.report import format_of, worked_report
@@ -90,21 +86,16 @@ def run(args: argparse.Namespace) -> int:
     say = progress_printer(args, "report")
     if say:
         say(f"reading {args.file}")
-    table = read_table(args.file, numeric_columns=[args.response], text_columns=[args.factor])
-    levels = [x.strip() for x in args.levels.split(",")] if args.levels else None
-    models = groups(table.frame, args.response, args.factor, missing=args.missing,
-                    offset=table.offset_of(args.response), levels=levels)
+    models = read_groups(args)
     if say:
         say("fitting and comparing the models")
     comparison = models.chain(*args.blocks, denominator=args.denominator)
     contrasts = None
     if args.contrast or args.family:
         from nestfit import contrasts as nc
-        from nestfit._commands.contrasts import _family
-
         if say:
             say("estimating the contrasts")
-        contrasts = nc.cell_means(models.separate_means()).family(_family(args)).adjust(
+        contrasts = nc.cell_means(models.separate_means()).family(family_from_args(args)).adjust(
             args.adjust, level=args.level, alternative=args.alternative, rng=args.seed)
     checks = diagnostics = None
     skipped = []
