@@ -25,6 +25,7 @@ from nestfit.contrasts._parse import (
     Num,
     ParsedContrast,
     Rest,
+    combine,
     parse_contrast,
 )
 from nestfit.design._coding_custom import _as_weight
@@ -220,17 +221,8 @@ def _evaluate(parsed: ParsedContrast, levels: tuple[str, ...], label: str) -> np
             out = np.zeros(len(levels))
             out[levels.index(node.name)] = 1.0
             return out
-        if isinstance(node, Neg):
-            return -value(node.operand)
-        if isinstance(node, Binary):
-            a, b = value(node.left), value(node.right)
-            if node.op == "+":
-                return a + b
-            if node.op == "-":
-                return a - b
-            if node.op == "*":
-                return a * b
-            return a / b
+        if isinstance(node, (Neg, Binary)):
+            return combine(node, value)
         if isinstance(node, Mean):
             total: Any = 0.0
             count = 0

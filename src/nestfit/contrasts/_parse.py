@@ -32,7 +32,9 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Callable
 from dataclasses import dataclass
+from typing import Any
 
 from nestfit.errors import ParseError
 
@@ -299,21 +301,30 @@ class _Parser:
         return f"{tok.text!r}"
 
 
+def combine(node: Neg | Binary, value: Callable[[Expr], Any]) -> Any:
+    """Negation or a binary operation on the values of the operands, ``value(operand)``.
+
+    Shared by the constant folder here and the weight evaluator of the contrasts, which
+    give the operands numbers or weight vectors.
+    """
+    if isinstance(node, Neg):
+        return -value(node.operand)
+    a, b = value(node.left), value(node.right)
+    if node.op == "+":
+        return a + b
+    if node.op == "-":
+        return a - b
+    if node.op == "*":
+        return a * b
+    return a / b
+
+
 def _constant(node: Expr) -> float:
     """The value of a number-kind node."""
     if isinstance(node, Num):
         return node.value
-    if isinstance(node, Neg):
-        return -_constant(node.operand)
-    if isinstance(node, Binary):
-        a, b = _constant(node.left), _constant(node.right)
-        if node.op == "+":
-            return a + b
-        if node.op == "-":
-            return a - b
-        if node.op == "*":
-            return a * b
-        return a / b
+    if isinstance(node, (Neg, Binary)):
+        return float(combine(node, _constant))
     if isinstance(node, Mean):
         return math.fsum(_constant(item) for item in node.items) / len(node.items)
     raise TypeError(f"not a number node: {node!r}")  # pragma: no cover
