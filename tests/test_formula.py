@@ -134,3 +134,8 @@ def test_fit_is_immutable_and_prints(data: pd.DataFrame) -> None:
     assert "C(a)[T.a2]" in text and "residual df 36" in text
     d = f.to_dict()
     assert d["coefficients"][0]["name"] == "Intercept" and d["rank"] == 4
+
+
+def test_bad_aliased_option(data: pd.DataFrame) -> None:
+    with pytest.raises(DataError, match="aliased must be 'warn' or 'raise'. Got 'ignore'"):
+        nestfit.fit("y ~ x", data, aliased="ignore")
