@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -137,5 +139,6 @@ def test_fit_is_immutable_and_prints(data: pd.DataFrame) -> None:
 
 
 def test_bad_aliased_option(data: pd.DataFrame) -> None:
-    with pytest.raises(DataError, match="aliased must be 'warn' or 'raise'. Got 'ignore'"):
+    message = re.escape("aliased must be 'warn' or 'raise'. Got 'ignore'")
+    with pytest.raises(DataError, match=message):
         nestfit.fit("y ~ x", data, aliased="ignore")

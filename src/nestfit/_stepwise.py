@@ -23,7 +23,8 @@ by           ``i alpha / (m c_m)``, ``c_m = sum 1/j`` step up
 
 Single-step simultaneous methods (Scheffe, Tukey-Kramer, Dunnett, max-t)
 compare every ``|t|`` with one critical value instead, which the family
-result carries (``critical_value``). Hommel's method and the step-down max-t
+result carries (``critical_value``; each row's own, ``ContrastRow.critical_value``,
+when the rows have their own df). Hommel's method and the step-down max-t
 method have no threshold table of this form; their trace lists the adjusted
 p-values only. The decisions shown are always the family result's own
 (``p_adjusted <= alpha``); the trace shows how the procedure reaches them.
@@ -168,7 +169,8 @@ def adjustment_trace(result: FamilyResult) -> AdjustmentTrace:
     -------
     AdjustmentTrace
         Thresholds for the p-value methods (module table); the critical value
-        ``result.critical_value`` for the single-step simultaneous methods.
+        ``result.critical_value`` (or each row's own, with per-contrast df) for the
+        single-step simultaneous methods.
     """
     method, alpha, rows = result.method, result.alpha, result.rows
     m = len(rows)
@@ -179,9 +181,10 @@ def adjustment_trace(result: FamilyResult) -> AdjustmentTrace:
         kind = "critical-value"
         signed = {"two-sided": np.abs(t), "greater": t, "less": -t}[result.alternative]
         order = np.argsort(-np.nan_to_num(signed, nan=-np.inf), kind="stable")
-        c = float(result.critical_value)
-        thresholds: list[float | None] = [c] * m
-        passes: list[bool | None] = [bool(signed[j] > c) for j in order]
+        c = np.array([r.critical_value if math.isfinite(r.critical_value)
+                      else result.critical_value for r in rows], dtype=float)
+        thresholds: list[float | None] = [float(c[j]) for j in order]
+        passes: list[bool | None] = [bool(signed[j] > c[j]) for j in order]
     elif method in _SINGLE | _STEP_DOWN | _STEP_UP:
         kind = ("single" if method in _SINGLE else
                 "step-down" if method in _STEP_DOWN else "step-up")

@@ -124,3 +124,30 @@ def test_bad_files(capsys: pytest.CaptureFixture[str], fill_csv: str, tmp_path: 
     status, _, err = run(capsys, fill_csv, "--response", "mass", "--factor", "head",
                          "--family", "pairs")
     assert status == 1 and "no column named 'mass'" in err
+
+
+def test_variance_option_gives_games_howell(capsys: pytest.CaptureFixture[str],
+                                            fill_csv: str) -> None:
+    status, out, _ = run(capsys, fill_csv, "--response", "weight", "--factor", "head",
+                         "--family", "pairs", "--adjust", "tukey", "--variance", "welch",
+                         "--format", "json")
+    assert status == 0
+    payload = json.loads(out)
+    models = nestfit.groups(nestfit.datasets.load_fill_weights(), "weight", "head")
+    ref = nc.cell_means(models.separate_means(), variance="welch").family(
+        nc.all_pairs()).adjust("tukey")
+    assert payload["variance"] == "welch" and "Games-Howell" in payload["method_name"]
+    np.testing.assert_allclose([r["p_adjusted"] for r in payload["contrasts"]],
+                               ref.p_adjusted, rtol=1e-12)
+    assert [r["df"] for r in payload["contrasts"]] == pytest.approx([r.df for r in ref.rows])
+    status, out, _ = run(capsys, fill_csv, "--response", "weight", "--factor", "head",
+                         "--contrast", "H4 - mean(...)", "--variance", "hc3")
+    assert status == 0 and "HC3 sandwich" in out
+
+
+def test_bad_variance_option(capsys: pytest.CaptureFixture[str], fill_csv: str) -> None:
+    with pytest.raises(SystemExit) as info:
+        run(capsys, fill_csv, "--response", "weight", "--factor", "head", "--contrast",
+            "H1 - H2", "--variance", "robust")
+    assert info.value.code == 2
+    assert "invalid choice: 'robust'" in capsys.readouterr().err

@@ -48,6 +48,28 @@ def test_report_markdown_with_contrasts(csv: Path, tmp_path: Path,
         assert f"]({name})" in md
 
 
+def test_report_with_welch_type_contrasts(csv: Path, tmp_path: Path,
+                                          capsys: pytest.CaptureFixture[str]) -> None:
+    out = tmp_path / "w.md"
+    code, _, err = run(["report", str(csv), "--response", "weight", "--factor", "head",
+                        "--family", "pairs", "--adjust", "tukey", "--variance", "welch",
+                        "--no-figures", "--out", str(out)], capsys)
+    assert code == 0 and err == ""
+    md = out.read_text(encoding="utf-8")
+    assert "Games-Howell" in md and "Satterthwaite" in md
+    from nestfit import contrasts as nc
+
+    models = nestfit.groups(nestfit.datasets.load_fill_weights(), "weight", "head")
+    ref = nc.cell_means(models.separate_means(), variance="welch").family(
+        nc.all_pairs()).adjust("tukey")
+    rows = markdown_table(md, "Each contrast: its weights")
+    assert len(rows) == len(ref.rows)
+    for row, expected in zip(rows, ref.rows):  # columns: ..., std error, df, multiplier, t
+        assert row[0] == expected.label
+        assert close_to_printed(expected.df, row[4])
+        assert close_to_printed(expected.critical_value, row[5])
+
+
 @pytest.mark.parametrize("suffix", [".html", ".tex", ".txt"])
 def test_report_formats(suffix: str, csv: Path, tmp_path: Path,
                         capsys: pytest.CaptureFixture[str]) -> None:

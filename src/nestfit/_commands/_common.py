@@ -72,6 +72,16 @@ def family_from_args(args: argparse.Namespace) -> Any:
     raise ContrastError(f"unknown family {args.family!r}; valid families are {FAMILIES}")
 
 
+def add_variance(parser: argparse.ArgumentParser) -> None:
+    """The ``--variance pooled|welch|HC0|HC1|HC2|HC3`` option of the contrast commands."""
+    parser.add_argument(
+        "--variance", default="pooled", type=lambda v: v.upper() if v.upper().startswith("HC")
+        else v.lower(), choices=["pooled", "welch", "HC0", "HC1", "HC2", "HC3"],
+        help="standard errors of the contrasts: pooled residual mean square (default), welch "
+             "(each level's own variance, Satterthwaite df per contrast; with --adjust tukey "
+             "this is Games-Howell), or a heteroscedasticity-consistent sandwich HC0-HC3")
+
+
 def add_format(parser: argparse.ArgumentParser) -> None:
     """The ``--format text|json`` option."""
     parser.add_argument("--format", choices=["text", "json"], default="text",

@@ -9,6 +9,7 @@ from nestfit._commands._common import (
     FAMILIES,
     add_format,
     add_group_input,
+    add_variance,
     emit,
     family_from_args,
     read_groups,
@@ -17,15 +18,15 @@ from nestfit._commands._common import (
 __all__ = ["register", "run"]
 
 
-
 def register(sub: Any) -> None:
     """Add the ``contrasts`` subcommand."""
     p = sub.add_parser(
         "contrasts",
         help="estimate contrasts of level means, with multiplicity adjustment",
         description=(
-            "Estimate contrasts of the level means of one factor (separate-means model, pooled "
-            "residual mean square) and adjust their p-values and intervals for multiplicity. "
+            "Estimate contrasts of the level means of one factor (separate-means model; pooled "
+            "residual mean square unless --variance says otherwise) and adjust their p-values "
+            "and intervals for multiplicity. "
             "Give contrasts with --contrast, or a built-in family with --family."
         ),
     )
@@ -50,6 +51,7 @@ def register(sub: Any) -> None:
                    help="level order, comma-separated (matters for consecutive and trend)")
     p.add_argument("--seed", type=int, default=0,
                    help="seed of the multivariate-t integration (dunnett, max-t; default: 0)")
+    add_variance(p)
     add_format(p)
     p.set_defaults(run=run)
 
@@ -60,7 +62,7 @@ def run(args: argparse.Namespace) -> int:
 
     spec = family_from_args(args)
     models = read_groups(args)
-    means = nc.cell_means(models.separate_means())
+    means = nc.cell_means(models.separate_means(), variance=args.variance)
     result = means.family(spec).adjust(args.adjust, level=args.level,
                                        alternative=args.alternative, rng=args.seed,
                                        span=args.span)

@@ -8,7 +8,12 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
-from nestfit._commands._common import add_group_input, family_from_args, read_groups
+from nestfit._commands._common import (
+    add_group_input,
+    add_variance,
+    family_from_args,
+    read_groups,
+)
 
 __all__ = ["progress_printer", "register", "run"]
 
@@ -56,6 +61,7 @@ def register(sub: Any) -> None:
     p.add_argument("--levels", metavar="A,B,C", help="level order, comma-separated")
     p.add_argument("--seed", type=int, default=0,
                    help="seed of the multivariate-t integration (dunnett, max-t; default: 0)")
+    add_variance(p)
     p.add_argument("--title", default="", help="title of the report")
     p.add_argument("--question", default="", help="the question the analysis answers")
     p.add_argument("--units", default="", help="units of the response, e.g. g")
@@ -95,7 +101,8 @@ def run(args: argparse.Namespace) -> int:
         from nestfit import contrasts as nc
         if say:
             say("estimating the contrasts")
-        contrasts = nc.cell_means(models.separate_means()).family(family_from_args(args)).adjust(
+        means = nc.cell_means(models.separate_means(), variance=args.variance)
+        contrasts = means.family(family_from_args(args)).adjust(
             args.adjust, level=args.level, alternative=args.alternative, rng=args.seed)
     checks = diagnostics = None
     skipped = []

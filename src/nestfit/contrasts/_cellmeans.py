@@ -35,6 +35,7 @@ import pandas as pd
 import scipy.linalg
 
 from nestfit._fit import Fit, fit_design
+from nestfit.contrasts._variance import VarianceSource, retained_covariance, variance_source
 from nestfit.design._design import ColumnInfo, Design
 from nestfit.design._factor import Factor
 from nestfit.errors import ColumnError, ContrastError, DataError, ModelError
@@ -77,9 +78,14 @@ class CellMeans:
     estimates : ndarray, shape (k,)
         The estimated level means ``M b``.
     covariance : ndarray, shape (k, k)
-        Their covariance ``M Cov(b) M'``.
+        Their covariance ``M V M'``, ``V`` the coefficient covariance chosen
+        by ``variance``.
     adjusted : bool
         ``True`` for adjusted means of a dense fit (covariates at their means).
+    variance : str
+        Where the standard errors come from: ``"pooled"``, ``"welch"`` or
+        ``"HC0"``-``"HC3"`` (:mod:`nestfit.contrasts._variance`); ``covariance``
+        is computed that way.
     """
 
     fit: Fit
@@ -90,6 +96,8 @@ class CellMeans:
     estimates: np.ndarray = field(repr=False)
     covariance: np.ndarray = field(repr=False)
     adjusted: bool = False
+    variance: str = "pooled"
+    _source: VarianceSource | None = field(default=None, repr=False)
     _null: np.ndarray = field(default_factory=lambda: np.zeros((0, 0)), repr=False)
     _scales: np.ndarray = field(default_factory=lambda: np.zeros(0), repr=False)
 
@@ -100,6 +108,17 @@ class CellMeans:
         return self.fit.residual_df
 
     @property
+    def source(self) -> VarianceSource:
+        """The covariance behind the standard errors, with its name and assumptions."""
+        assert self._source is not None
+        return self._source
+
+    def df_for(self, weights: np.ndarray) -> float:
+        """Degrees of freedom of the contrast with these level weights (Satterthwaite's for
+        Welch-type errors, the residual df otherwise)."""
+        return self.source.df_for(np.asarray(weights, dtype=float))
+
+    @property
     def std_errors(self) -> np.ndarray:
         """Standard errors of the level means."""
         return np.sqrt(np.diag(self.covariance))
@@ -107,10 +126,11 @@ class CellMeans:
     @property
     def description(self) -> str:
         """What the means are, in words."""
+        errors = "" if self.variance == "pooled" else f"; standard errors: {self.source.name}"
         if self.adjusted:
             return (f"adjusted means of {self.factor!r} in model {self.fit.name!r} (covariates at "
-                    "their means over the observations used)")
-        return f"fitted means of {self.factor!r} in model {self.fit.name!r}"
+                    f"their means over the observations used){errors}")
+        return f"fitted means of {self.factor!r} in model {self.fit.name!r}{errors}"
 
     def coefficients_for(self, weights: np.ndarray, label: str) -> np.ndarray:
         """``c = w' M`` for level weights ``w``, checked to be estimable and not identically zero.
@@ -146,13 +166,25 @@ class CellMeans:
         c.flags.writeable = False
         return c
 
-    def value_and_variance(self, c: np.ndarray) -> tuple[float, float]:
-        """``(c b, c' Cov(b) c)`` over the estimable columns."""
+    def value_and_variance(self, c: np.ndarray, *, pooled: bool = False) -> tuple[float, float]:
+        """``(c b, c' V c)`` over the estimable columns.
+
+        ``V`` is the covariance chosen by :attr:`variance`, or with
+        ``pooled=True`` the model's own ``s^2 (X'WX)^-`` (which sums of
+        squares and orthogonality are defined by, whatever the variance choice).
+        """
         keep = self._retained()
         b = np.asarray(self.fit.coefficients)[keep]
-        cov = np.asarray(self.fit.covariance)[np.ix_(keep, keep)]
+        cov = self.coefficient_covariance(pooled=pooled)[np.ix_(keep, keep)]
         ck = c[keep]
         return float(ck @ b), float(ck @ cov @ ck)
+
+    def coefficient_covariance(self, *, pooled: bool = False) -> np.ndarray:
+        """``(p, p)`` covariance of the coefficients used for contrasts (zeros on aliased
+        columns): the chosen one, or the model's own with ``pooled=True``."""
+        if pooled and self.variance != "pooled":
+            return retained_covariance(self.fit.covariance, self._retained())
+        return self.source.coefficient_covariance
 
     def restricted_fit(self, constraints: np.ndarray, name: str, description: str = "") -> Fit:
         """The model refitted under ``constraints @ b = 0`` (rows estimable).
@@ -216,7 +248,8 @@ class CellMeans:
         return format_cell_means(self)
 
 
-def cell_means(fit: Fit, factor: str | None = None, data: Any = None) -> CellMeans:
+def cell_means(fit: Fit, factor: str | None = None, data: Any = None, *,
+               variance: str = "pooled") -> CellMeans:
     """The level means of a fit, as linear functions of its coefficients.
 
     Parameters
@@ -230,6 +263,13 @@ def cell_means(fit: Fit, factor: str | None = None, data: Any = None) -> CellMea
     data : pandas.DataFrame, optional
         For a formula fit: the table the fit was made from (the factor's
         labels are looked up by the row labels the fit kept).
+    variance : {"pooled", "welch", "HC0", "HC1", "HC2", "HC3"}
+        Where every contrast's standard error and df come from
+        (:mod:`nestfit.contrasts._variance`): the pooled residual mean square
+        on the residual df (default); each level's own variance with
+        Satterthwaite df per contrast (separate-means grouped fits); or a
+        heteroscedasticity-consistent sandwich covariance on the residual df
+        (any fit). Every family and multiplicity method then uses it.
 
     Returns
     -------
@@ -238,7 +278,8 @@ def cell_means(fit: Fit, factor: str | None = None, data: Any = None) -> CellMea
     Raises
     ------
     ContrastError
-        The factor is not in the model, or enters an interaction.
+        The factor is not in the model, or enters an interaction; a
+        ``variance`` the fit does not allow (the message says which to use).
     ColumnError, DataError
         A missing factor column, or data that do not match the fit's rows.
 
@@ -274,16 +315,17 @@ def cell_means(fit: Fit, factor: str | None = None, data: Any = None) -> CellMea
     scales[scales == 0] = 1.0
     null = scipy.linalg.null_space(rows / scales)
     keep = np.array([n not in set(fit.aliased) for n in fit.design.column_names])
+    source = variance_source(fit, variance, keep)
     b = np.where(keep, np.nan_to_num(np.asarray(fit.coefficients)), 0.0)
-    cov = np.where(np.outer(keep, keep), np.nan_to_num(np.asarray(fit.covariance)), 0.0)
     estimates = mapping @ b
-    covariance = mapping @ cov @ mapping.T
+    covariance = mapping @ source.coefficient_covariance @ mapping.T
+    covariance = (covariance + covariance.T) / 2.0
     for arr in (mapping, estimates, covariance, null, scales):
         arr.flags.writeable = False
     counts = fac.counts
     counts.flags.writeable = False
     return CellMeans(fit, fac.name, fac.levels, counts, mapping, estimates, covariance,
-                     adjusted, null, scales)
+                     adjusted, source.key, source, null, scales)
 
 
 def _term_names(term: str) -> set[str]:

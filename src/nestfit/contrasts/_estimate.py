@@ -57,7 +57,7 @@ def check_level(level: float) -> float:
     return value
 
 
-def p_value(t: Any, df: int, alternative: str) -> Any:
+def p_value(t: Any, df: Any, alternative: str) -> Any:
     """t-test p-values: two-sided ``2 P(T > |t|)``, greater ``P(T > t)``, less ``P(T < t)``."""
     if alternative == "two-sided":
         return 2.0 * stats.t.sf(np.abs(t), df)
@@ -83,15 +83,19 @@ class ContrastEstimate:
     estimate : float
         ``c b``.
     std_error : float
-        ``sqrt(c' Cov(b) c)``.
-    df : int
-        Residual degrees of freedom of the model.
+        ``sqrt(c' V c)``, ``V`` the coefficient covariance chosen by the level
+        means' ``variance`` (the model's own ``Cov(b)`` by default).
+    df : float
+        Degrees of freedom of ``t``: the model's residual df, or
+        Satterthwaite's df for Welch-type standard errors.
     alternative : {"two-sided", "greater", "less"}
         The alternative of :attr:`p` and :meth:`conf_int`.
     general : bool
         Whether the weights were allowed not to sum to zero.
     model : str
         The model's name.
+    variance : str
+        ``"pooled"``, ``"welch"`` or ``"HC0"``-``"HC3"``.
     """
 
     label: str
@@ -100,10 +104,11 @@ class ContrastEstimate:
     coefficients: np.ndarray = field(repr=False)
     estimate: float
     std_error: float
-    df: int
+    df: float
     alternative: str = "two-sided"
     general: bool = False
     model: str = ""
+    variance: str = "pooled"
     _means: CellMeans | None = field(default=None, repr=False)
 
     @property
@@ -118,9 +123,13 @@ class ContrastEstimate:
 
     @property
     def unscaled_variance(self) -> float:
-        """``c' (X'WX)^- c`` (``sum w_i^2 / n_i`` for separate means): ``se^2 / sigma^2``."""
+        """``c' (X'WX)^- c`` (``sum w_i^2 / n_i`` for separate means): the pooled ``se^2 /
+        sigma^2``, whatever the variance choice."""
         assert self._means is not None
-        return self.std_error ** 2 / self._means.fit.mean_square
+        if self.variance == "pooled":
+            return self.std_error ** 2 / self._means.fit.mean_square
+        return self._means.value_and_variance(self.coefficients, pooled=True)[1] / \
+            self._means.fit.mean_square
 
     @property
     def ss(self) -> float:
@@ -148,7 +157,8 @@ class ContrastEstimate:
         return -math.inf, self.estimate + q * self.std_error
 
     def restricted_fit(self) -> Fit:
-        """The model refitted under ``psi = 0``; ``compare(restricted, full)`` has ``F = t^2``."""
+        """The model refitted under ``psi = 0``; ``compare(restricted, full)`` has ``F = t^2``
+        (for the pooled standard error)."""
         assert self._means is not None
         return self._means.restricted_fit(
             self.coefficients, f"{self.model} with {self.label} = 0",
@@ -168,7 +178,8 @@ class ContrastEstimate:
         return {"label": self.label, "weights": self.weight_map, "estimate": self.estimate,
                 "std_error": self.std_error, "df": self.df, "t": self.t, "p": self.p,
                 "alternative": self.alternative, "lower": _finite(lower),
-                "upper": _finite(upper), "ss": self.ss, "model": self.model}
+                "upper": _finite(upper), "ss": self.ss, "model": self.model,
+                "variance": self.variance}
 
     def __str__(self) -> str:
         from nestfit.contrasts._text import format_estimate
@@ -195,4 +206,5 @@ def estimate_contrast(means: CellMeans, spec: Any, *, label: str | None = None,
         raise ContrastError(f"contrast {c.label!r} has zero variance in model "
                             f"{means.fit.name!r}; it cannot be tested")
     return ContrastEstimate(c.label, means.levels, w, coef, value, math.sqrt(variance),
-                            means.df, alternative, c.general, means.fit.name, means)
+                            means.df_for(w), alternative, c.general, means.fit.name,
+                            means.variance, means)

@@ -90,21 +90,27 @@ class EstimatedFamily:
         return self._means.df
 
     @property
+    def dfs(self) -> np.ndarray:
+        """``(m,)`` degrees of freedom of each contrast (all the residual df unless the level
+        means use Welch-type standard errors)."""
+        return np.array([e.df for e in self.estimates], dtype=float)
+
+    @property
     def covariance(self) -> np.ndarray:
-        """``(m, m)`` covariance of the estimates, ``C Cov(b) C'``."""
-        keep = self._means._retained()
-        c = self.coefficients[:, keep]
-        cov = np.asarray(self._means.fit.covariance)[np.ix_(keep, keep)]
-        return c @ cov @ c.T
+        """``(m, m)`` covariance of the estimates, ``C V C'`` (``V`` as chosen by the level
+        means' ``variance``)."""
+        return self._covariance(pooled=False)
 
     @property
     def correlation(self) -> np.ndarray:
         """``(m, m)`` correlation of the estimates (the max-t methods' matrix)."""
-        cov = self.covariance
-        d = np.sqrt(np.diag(cov))
-        corr = cov / np.outer(d, d)
-        np.fill_diagonal(corr, 1.0)
-        return corr
+        return _correlation(self.covariance)
+
+    def _covariance(self, *, pooled: bool) -> np.ndarray:
+        keep = self._means._retained()
+        c = self.coefficients[:, keep]
+        cov = self._means.coefficient_covariance(pooled=pooled)[np.ix_(keep, keep)]
+        return c @ cov @ c.T
 
     @property
     def rank(self) -> int:
@@ -113,7 +119,11 @@ class EstimatedFamily:
 
     # ----------------------------------------------------------- tests
     def joint_test(self) -> Comparison:
-        """F test of all contrasts at once: the model restricted by ``C b = 0`` against the fit."""
+        """F test of all contrasts at once: the model restricted by ``C b = 0`` against the fit.
+
+        This is the nested comparison of two models, so its error term is the
+        pooled residual mean square whatever ``variance`` the level means use.
+        """
         from nestfit._compare import compare
 
         fit = self._means.fit
@@ -126,15 +136,18 @@ class EstimatedFamily:
     def orthogonality(self) -> pd.DataFrame:
         """``w' V v`` for every pair (``sum w_i v_i / n_i`` for separate means).
 
-        Zero off the diagonal means the two estimates are uncorrelated.
+        Zero off the diagonal means the two estimates are uncorrelated under
+        the model's own (pooled) covariance: orthogonality is a property of
+        the design and the weights, whatever ``variance`` the means use.
         """
-        unscaled = self.covariance / self._means.fit.mean_square
+        unscaled = self._covariance(pooled=True) / self._means.fit.mean_square
         return pd.DataFrame(unscaled, index=pd.Index(self.labels, name="contrast"),
                             columns=pd.Index(self.labels, name="contrast"))
 
     def is_orthogonal(self, tol: float = ORTHOGONAL_TOL) -> bool:
-        """Whether every pair of estimates is uncorrelated (|correlation| <= tol)."""
-        corr = self.correlation
+        """Whether every pair of estimates is uncorrelated under the design (pooled
+        covariance, |correlation| <= tol)."""
+        corr = _correlation(self._covariance(pooled=True))
         return bool(np.all(np.abs(corr - np.eye(len(self))) <= tol))
 
     def ss_split(self) -> pd.DataFrame:
@@ -152,7 +165,7 @@ class EstimatedFamily:
             The contrasts are not orthogonal under the design (the message
             names the first correlated pair).
         """
-        corr = self.correlation
+        corr = _correlation(self._covariance(pooled=True))
         off = np.abs(corr - np.eye(len(self)))
         if np.any(off > ORTHOGONAL_TOL):
             flat = int(np.argmax(off))
@@ -216,6 +229,13 @@ class EstimatedFamily:
         return pd.DataFrame(
             [{"label": e.label, "estimate": e.estimate, "std_error": e.std_error, "df": e.df,
               "t": e.t, "p": e.p} for e in self.estimates])
+
+
+def _correlation(cov: np.ndarray) -> np.ndarray:
+    d = np.sqrt(np.diag(cov))
+    corr = cov / np.outer(d, d)
+    np.fill_diagonal(corr, 1.0)
+    return corr
 
 
 def row_rank(rows: np.ndarray, keep: np.ndarray) -> int:

@@ -71,8 +71,9 @@ class MaxT:
     ----------
     corr : ndarray, shape (m, m)
         Correlation matrix of the t statistics (positive semi-definite).
-    df : int
-        Degrees of freedom of the shared variance estimate.
+    df : float
+        Degrees of freedom of the shared variance estimate (need not be whole:
+        Satterthwaite df for Welch-type standard errors).
     two_sided : bool
         Distribution of ``max |T_i|`` (True) or of ``max T_i`` (False).
     rng : numpy.random.Generator
@@ -87,7 +88,7 @@ class MaxT:
         conditioning otherwise; the others force one (scipy only for full rank).
     """
 
-    def __init__(self, corr: np.ndarray, df: int, *, two_sided: bool,
+    def __init__(self, corr: np.ndarray, df: float, *, two_sided: bool,
                  rng: np.random.Generator, points: int | None = None,
                  replicates: int = REPLICATES, backend: str = "auto") -> None:
         corr = np.array(corr, dtype=float)
@@ -101,7 +102,7 @@ class MaxT:
             raise ContrastError(f"replicates must be at least 2 (for the error estimate), "
                                 f"got {replicates}")
         np.fill_diagonal(corr, 1.0)
-        self.corr, self.df, self.two_sided, self.m = corr, int(df), bool(two_sided), m
+        self.corr, self.df, self.two_sided, self.m = corr, float(df), bool(two_sided), m
         eig = np.linalg.eigvalsh(corr)
         self.rank = int(np.sum(eig > SINGULAR_TOL * m))
         self.seeds = [int(s) for s in rng.integers(0, 2**63 - 1, size=replicates)]

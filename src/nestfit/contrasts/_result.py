@@ -27,7 +27,8 @@ class ContrastRow:
     weights : tuple of (level, weight)
         The non-zero weights.
     estimate, std_error : float
-    df : int
+    df : float
+        Degrees of freedom of ``t`` (Satterthwaite's for Welch-type errors).
     t : float
     p : float
         Unadjusted p-value for the result's alternative.
@@ -35,18 +36,22 @@ class ContrastRow:
         Adjusted p-value: reject at ``alpha`` when ``p_adjusted <= alpha``.
     lower, upper : float
         Interval limits (``-inf``/``inf`` for one-sided bounds).
+    critical_value : float
+        The multiplier of the standard error in this row's interval (the
+        same for every row unless the rows have their own df).
     """
 
     label: str
     weights: tuple[tuple[str, float], ...]
     estimate: float
     std_error: float
-    df: int
+    df: float
     t: float
     p: float
     p_adjusted: float
     lower: float
     upper: float
+    critical_value: float = math.nan
 
     @property
     def weight_map(self) -> dict[str, float]:
@@ -75,13 +80,20 @@ class FamilyResult:
     interval : str
         What the intervals are (simultaneous by which method, or per contrast).
     critical_value : float
-        The multiplier of the standard error in the intervals.
+        The multiplier of the standard error in the intervals; NaN when the
+        rows have their own df and so their own multipliers
+        (``ContrastRow.critical_value``).
     integration_error : float or None
         For the multivariate-t methods: the largest estimated integration
         error (three standard errors) of any adjusted p-value or of the
         coverage probability at the critical value.
     notes : tuple of str
         Caveats specific to the method.
+    variance, variance_name : str
+        Where the standard errors come from (``"pooled"``, ``"welch"``,
+        ``"HC0"``-``"HC3"``), and in words.
+    assumptions : str
+        The assumptions behind the tests and intervals.
     """
 
     family: str
@@ -105,6 +117,14 @@ class FamilyResult:
     levels: tuple[str, ...] = field(default=(), repr=False)
     level_means: tuple[float, ...] = field(default=(), repr=False)
     adjusted_means: bool = field(default=False, repr=False)
+    variance: str = "pooled"
+    variance_name: str = "pooled residual mean square"
+    assumptions: str = ""
+
+    @property
+    def multipliers(self) -> np.ndarray:
+        """Each row's multiplier of the standard error."""
+        return np.array([r.critical_value for r in self.rows])
 
     @property
     def labels(self) -> tuple[str, ...]:
@@ -154,9 +174,12 @@ class FamilyResult:
             "response": self.response,
             "factor": self.factor,
             "df": self.df,
+            "variance": self.variance,
+            "variance_name": self.variance_name,
             "rank": self.rank,
             "interval": self.interval,
             "critical_value": _finite(self.critical_value),
+            "critical_values": [_finite(r.critical_value) for r in self.rows],
             "integration_error": (None if self.integration_error is None
                                   else float(self.integration_error)),
             "notes": list(self.notes),

@@ -102,7 +102,8 @@ def _method_key(method: str) -> str:
     return key
 
 
-def _interval_multiplier(kind: str, m: int, level: float, df: int, two_sided: bool) -> float:
+def _interval_multiplier(kind: str, m: int, level: float, dfs: np.ndarray,
+                         two_sided: bool) -> np.ndarray:
     alpha = 1.0 - level
     if kind == "bonferroni":
         tail = alpha / m
@@ -110,7 +111,14 @@ def _interval_multiplier(kind: str, m: int, level: float, df: int, two_sided: bo
         tail = -math.expm1(math.log1p(-alpha) / m)
     else:
         tail = alpha
-    return float(stats.t.ppf(1.0 - tail / 2.0 if two_sided else 1.0 - tail, df))
+    return np.asarray(stats.t.ppf(1.0 - tail / 2.0 if two_sided else 1.0 - tail, dfs),
+                      dtype=float)
+
+
+def _per_df(values: np.ndarray, fn: Any) -> np.ndarray:
+    """``fn(df)`` for each distinct df of ``values``, spread back to every contrast."""
+    unique, inverse = np.unique(values, return_inverse=True)
+    return np.array([fn(float(d)) for d in unique], dtype=float)[inverse]
 
 
 def _pair(weights: np.ndarray) -> tuple[int, int] | None:
@@ -176,8 +184,8 @@ def _scheffe_rank(fam: EstimatedFamily, span: str) -> int:
     return row_rank(basis @ fam.means.mapping, fam.means._retained())
 
 
-def _step_down(fam: EstimatedFamily, stat: np.ndarray, p: np.ndarray, two_sided: bool,
-               gen: np.random.Generator, points: int | None,
+def _step_down(fam: EstimatedFamily, stat: np.ndarray, p: np.ndarray, dfs: np.ndarray,
+               two_sided: bool, gen: np.random.Generator, points: int | None,
                replicates: int) -> tuple[np.ndarray, float]:
     corr = fam.correlation
     order = np.argsort(-stat, kind="stable")
@@ -185,7 +193,7 @@ def _step_down(fam: EstimatedFamily, stat: np.ndarray, p: np.ndarray, two_sided:
     running, worst = 0.0, 0.0
     for j, idx in enumerate(order):
         rest = order[j:]
-        dist = MaxT(corr[np.ix_(rest, rest)], fam.df, two_sided=two_sided, rng=gen,
+        dist = MaxT(corr[np.ix_(rest, rest)], float(dfs[idx]), two_sided=two_sided, rng=gen,
                     points=points, replicates=replicates)
         tail, err = dist.sf(stat[idx])
         bounded = min(max(float(tail[0]), float(p[idx])), min(1.0, rest.size * float(p[idx])))
@@ -198,7 +206,12 @@ def _step_down(fam: EstimatedFamily, stat: np.ndarray, p: np.ndarray, two_sided:
 def run_method(fam: EstimatedFamily, method: str, *, level: float = 0.95,
                alternative: str = "two-sided", rng: Any = None, span: str = "family",
                points: int | None = None, replicates: int | None = None) -> FamilyResult:
-    """Apply one multiplicity method to an estimated family (see the module notes)."""
+    """Apply one multiplicity method to an estimated family (see the module notes).
+
+    Each contrast is referred to its own df (``fam.dfs``): all the residual
+    df for pooled and sandwich standard errors, Satterthwaite's per contrast
+    for Welch-type ones (:mod:`nestfit.contrasts._variance`).
+    """
     key = _method_key(method)
     level = check_level(level)
     check_alternative(alternative)
@@ -206,9 +219,10 @@ def run_method(fam: EstimatedFamily, method: str, *, level: float = 0.95,
     est = np.array([e.estimate for e in fam.estimates])
     se = np.array([e.std_error for e in fam.estimates])
     t = est / se
-    df, m = fam.df, len(fam)
-    p = np.asarray(p_value(t, df, alternative), dtype=float)
+    dfs, m = fam.dfs, len(fam)
+    p = np.asarray(p_value(t, dfs, alternative), dtype=float)
     name = NAMES[key]
+    source = fam.means.source
     notes = [_NOTES[key]] if key in _NOTES else []
     kind = _INTERVALS[key]
     integration: float | None = None
@@ -217,56 +231,109 @@ def run_method(fam: EstimatedFamily, method: str, *, level: float = 0.95,
                             f"many-to-one family) with alternative={alternative!r}")
     if key in P_METHODS:
         p_adj = adjust_pvalues(p, key)
-        crit = _interval_multiplier(kind, m, level, df, two_sided)
+        crit = _interval_multiplier(kind, m, level, dfs, two_sided)
         if key in ("holm", "hochberg", "hommel", "holm-sidak"):
             notes.append(_STEPWISE_NOTE.format(name=name, kind=_KIND_NAMES[kind]))
     elif key == "scheffe":
         q = _scheffe_rank(fam, span)
-        p_adj = stats.f.sf(t * t / q, q, df)
-        crit = math.sqrt(q * float(stats.f.ppf(level, q, df)))
+        p_adj = stats.f.sf(t * t / q, q, dfs)
+        crit = np.sqrt(q * np.asarray(stats.f.ppf(level, q, dfs), dtype=float))
         what = ("every contrast of the level means" if span == "all"
                 else "every contrast in the span of the family")
         notes.append(f"Scheffe's intervals hold simultaneously for {what} (q = {q}), including "
                      "contrasts chosen after looking at the data")
     elif key == "tukey":
         k = _check_tukey(fam)
-        p_adj = stats.studentized_range.sf(np.abs(t) * math.sqrt(2.0), k, df)
-        crit = float(stats.studentized_range.ppf(level, k, df)) / math.sqrt(2.0)
-        name = f"{name} ({k} means)"
+        p_adj = stats.studentized_range.sf(np.abs(t) * math.sqrt(2.0), k, dfs)
+        crit = _per_df(dfs, lambda d: stats.studentized_range.ppf(level, k, d) / math.sqrt(2.0))
+        if source.per_contrast_df:
+            name = f"Games-Howell ({k} means; Tukey-Kramer with Welch-type standard errors and df)"
+            notes = []  # the Tukey-Kramer note does not apply; the variance note below does
+        else:
+            name = f"{name} ({k} means)"
     else:
         if key == "dunnett":
             name = f"{name}, control {_check_dunnett(fam)}"
-        gen = np.random.default_rng(rng)
-        reps = REPLICATES if replicates is None else int(replicates)
-        stat = np.abs(t) if two_sided else (t if alternative == "greater" else -t)
-        dist = MaxT(fam.correlation, df, two_sided=two_sided, rng=gen, points=points,
-                    replicates=reps)
-        crit, coverage_error = dist.quantile(level)
+        p_adj, crit, integration, dist = _max_t(fam, key, level, alternative, t, p, dfs,
+                                                np.random.default_rng(rng), points, replicates)
         if key == "step-down-max-t":
-            p_adj, err = _step_down(fam, stat, p, two_sided, gen, points, reps)
             notes.append("step-down max-t has no intervals of its own: the intervals shown are "
                          "the single-step max-t intervals, so the step-down test can reject a "
                          "contrast whose interval contains 0")
-        else:
-            tail, errs = dist.sf(stat)
-            p_adj = np.clip(tail, p, np.minimum(1.0, m * p))
-            err = float(errs.max())
-        integration = max(err, coverage_error)
         notes.append(f"multivariate t integration by {dist.backend} ({dist.points} points x "
                      f"{len(dist.seeds)} replicates); adjusted p-values and the coverage are "
                      f"accurate to about {integration:.1g}")
+    if source.key != "pooled":
+        notes.append(_variance_note(source.key, key))
     half = crit * se
     lower = est - half if alternative != "less" else np.full(m, -math.inf)
     upper = est + half if alternative != "greater" else np.full(m, math.inf)
     what = ("per-contrast (not simultaneous)" if kind == "per-contrast"
+            else "simultaneous (Games-Howell)" if kind == "tukey" and source.per_contrast_df
             else f"simultaneous ({_KIND_NAMES[kind]})")
     rows = tuple(
-        ContrastRow(e.label, tuple(e.weight_map.items()), float(est[i]), float(se[i]), df,
-                    float(t[i]), float(p[i]), float(p_adj[i]), float(lower[i]), float(upper[i]))
+        ContrastRow(e.label, tuple(e.weight_map.items()), float(est[i]), float(se[i]),
+                    e.df, float(t[i]), float(p[i]), float(p_adj[i]), float(lower[i]),
+                    float(upper[i]), float(crit[i]))
         for i, e in enumerate(fam.estimates))
     means = fam.means
+    common = float(crit[0]) if np.all(crit == crit[0]) else math.nan
     return FamilyResult(
         fam.name, fam.kind, key, name, error_rate(key), level, alternative,
-        means.fit.response_name, means.factor, means.fit.name, means.fit.n_obs, df, fam.rank,
-        rows, what, crit, integration, tuple(notes), means.levels,
-        tuple(float(x) for x in means.estimates), means.adjusted)
+        means.fit.response_name, means.factor, means.fit.name, means.fit.n_obs, fam.df, fam.rank,
+        rows, what, common, integration, tuple(notes), means.levels,
+        tuple(float(x) for x in means.estimates), means.adjusted, source.key, source.name,
+        source.assumptions)
+
+
+def _max_t(fam: EstimatedFamily, key: str, level: float, alternative: str, t: np.ndarray,
+           p: np.ndarray, dfs: np.ndarray, gen: np.random.Generator, points: int | None,
+           replicates: int | None) -> tuple[np.ndarray, np.ndarray, float, MaxT]:
+    """Adjusted p-values, critical values and integration error of the max-t methods.
+
+    With one df for every contrast there is one multivariate t; with
+    per-contrast df (Welch-type errors), contrast ``i`` is referred to the
+    multivariate t with the family's correlation and ``dfs[i]`` df.
+    """
+    two_sided = alternative == "two-sided"
+    m = len(t)
+    reps = REPLICATES if replicates is None else int(replicates)
+    stat = np.abs(t) if two_sided else (t if alternative == "greater" else -t)
+    corr = fam.correlation
+    common = bool(np.all(dfs == dfs[0]))
+    dists = [MaxT(corr, float(d), two_sided=two_sided, rng=gen, points=points,
+                  replicates=reps) for d in (dfs[:1] if common else dfs)]
+    crit = np.empty(m)
+    errors = []
+    for i, dist in enumerate(dists):
+        c, err = dist.quantile(level)
+        errors.append(err)
+        if common:
+            crit[:] = c
+        else:
+            crit[i] = c
+    if key == "step-down-max-t":
+        p_adj, err = _step_down(fam, stat, p, dfs, two_sided, gen, points, reps)
+        errors.append(err)
+    else:
+        if common:
+            tail, errs = dists[0].sf(stat)
+        else:
+            pairs = [dist.sf(stat[i]) for i, dist in enumerate(dists)]
+            tail = np.array([float(a[0]) for a, _ in pairs])
+            errs = np.array([float(b[0]) for _, b in pairs])
+        p_adj = np.clip(tail, p, np.minimum(1.0, m * p))
+        errors.append(float(np.max(errs)))
+    return p_adj, crit, float(max(errors)), dists[0]
+
+
+def _variance_note(variance: str, method: str) -> str:
+    if variance == "welch":
+        return ("standard errors use each level's own variance and every contrast has its own "
+                "Satterthwaite df, so the multiplier of the standard error differs between "
+                "rows; the error rate is approximate, close to nominal unless groups are very "
+                "small")
+    return (f"standard errors are {variance} sandwich (heteroscedasticity-consistent) estimates "
+            "referred to t on the residual df, a large-sample approximation: with few "
+            "observations per group the error rate can exceed the nominal level"
+            + (" (HC3 is the safest choice)" if variance != "HC3" else ""))

@@ -53,11 +53,11 @@ def format_estimate(e: ContrastEstimate, level: float = 0.95) -> str:
         f"  weights: {format_weights(e.levels, e.weights)}",
         "",
         text_table(["estimate", "std error", "df", "t", "p", f"{level:.0%} lower", "upper"],
-                   [[format_number(e.estimate), format_number(e.std_error), str(e.df),
+                   [[format_number(e.estimate), format_number(e.std_error), _df(e.df),
                      format_number(e.t, 4), format_p(e.p), _limit(lower), _limit(upper)]],
                    left=0),
-        f"  p is {side}; single-df sum of squares {format_number(e.ss)}",
-        "  " + ASSUMPTIONS,
+        f"  p is {side}; single-df sum of squares {format_number(e.ss)} (pooled)",
+        "  " + _assumptions(e),
     ]
     return "\n".join(lines)
 
@@ -73,25 +73,39 @@ def format_result(r: FamilyResult) -> str:
         f"  response {r.response!r}, model {r.model!r}, {r.n_obs} observations, residual df "
         f"{r.df}",
         f"  method: {r.method_name}; {_control(r.error_rate)}; tests {side}",
+        f"  standard errors: {r.variance_name}",
         f"  intervals: {r.interval} at {r.level:.4g}, estimate -/+ "
-        f"{format_number(r.critical_value, 4)} x std error",
+        + (f"{format_number(r.critical_value, 4)} x std error" if math.isfinite(r.critical_value)
+           else "multiplier x std error (each row's own, from its df)"),
         "",
     ]
     rejected = r.rejected()
+    own = not math.isfinite(r.critical_value)
     rows = [
-        [row.label, format_number(row.estimate), format_number(row.std_error),
-         format_number(row.t, 4), format_p(row.p), format_p(row.p_adjusted), _limit(row.lower),
-         _limit(row.upper), "yes" if rej else "no"]
+        [row.label, format_number(row.estimate), format_number(row.std_error)]
+        + ([_df(row.df), format_number(row.critical_value, 4)] if own else [])
+        + [format_number(row.t, 4), format_p(row.p), format_p(row.p_adjusted), _limit(row.lower),
+           _limit(row.upper), "yes" if rej else "no"]
         for row, rej in zip(r.rows, rejected)]
     lines.append(text_table(
-        ["contrast", "estimate", "std error", "t", "p", "adjusted p", "lower", "upper",
-         f"reject at {r.alpha:.3g}"], rows))
+        ["contrast", "estimate", "std error"] + (["df", "multiplier"] if own else [])
+        + ["t", "p", "adjusted p", "lower", "upper", f"reject at {r.alpha:.3g}"], rows))
     lines.append("")
     lines.append("  Read each row: reject 'contrast = 0' when the adjusted p is at most alpha. "
                  "An adjusted p is the smallest alpha at which the method rejects that row.")
     lines.extend(f"  Note: {n}." for n in r.notes)
     lines.append("  Choosing contrasts after seeing the data needs a method that covers them "
                  "(Scheffe over all contrasts); otherwise the stated error rate does not hold.")
-    lines.append("  " + ASSUMPTIONS)
+    lines.append("  Assumptions: " + r.assumptions + "." if r.assumptions else "  " + ASSUMPTIONS)
     lines.append("  " + CAUTION)
     return "\n".join(lines)
+
+
+def _df(df: float) -> str:
+    return str(int(df)) if float(df).is_integer() else format_number(df, 4)
+
+
+def _assumptions(e: ContrastEstimate) -> str:
+    if e._means is None or e.variance == "pooled":
+        return ASSUMPTIONS
+    return "Assumptions: " + e._means.source.assumptions + "."

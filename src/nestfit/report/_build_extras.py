@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from math import isfinite
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -158,8 +159,29 @@ def _outcome(tr: AdjustmentTrace) -> str:
         return (f"The last step whose p-value passes its threshold is step {last}: "
                 f"{which}{also}.")
     if tr.kind in ("single", "critical-value") and any(p is not None for p in passes):
-        return "Each hypothesis is decided on its own against the same threshold."
+        same = len({t.threshold for t in tr.rows}) == 1
+        return ("Each hypothesis is decided on its own against the same threshold." if same
+                else "Each hypothesis is decided on its own against its own threshold (its "
+                     "critical value depends on its df).")
     return ""
+
+
+def _se_rule(variance: str, separate: bool) -> tuple[str, str]:
+    """The standard-error formula in words and in LaTeX, for the variance choice."""
+    if variance == "welch":
+        return ("SE = sqrt(sum_i w_i^2 s_i^2 / n_i), s_i each level's own standard deviation, "
+                "with Satterthwaite's df (sum_i v_i)^2 / sum_i v_i^2 / (n_i - 1), "
+                "v_i = w_i^2 s_i^2 / n_i",
+                r"SE = \sqrt{\textstyle\sum_i w_i^2 s_i^2 / n_i}")
+    if variance != "pooled":
+        return (f"SE = sqrt(c' V c), V the {variance} sandwich covariance of the coefficients "
+                "and c the contrast written on them",
+                rf"SE = \sqrt{{c^\top V_{{\mathrm{{{variance}}}}}\, c}}")
+    if separate:
+        return ("SE = s sqrt(sum_i w_i^2 / n_i), s the pooled residual standard deviation",
+                r"SE = s\sqrt{\textstyle\sum_i w_i^2 / n_i}")
+    return ("SE = sqrt(c' Cov(b) c), c the contrast written on the coefficients",
+            r"SE = \sqrt{c^\top \widehat{\mathrm{Cov}}(b)\, c}")
 
 
 def contrasts_section(a: WorkedAnalysis, figures: dict[str, Figure]) -> Section | None:
@@ -169,23 +191,27 @@ def contrasts_section(a: WorkedAnalysis, figures: dict[str, Figure]) -> Section 
         return None
     side = {"two-sided": "two-sided", "greater": "one-sided (greater than 0)",
             "less": "one-sided (less than 0)"}.get(r.alternative, r.alternative)
+    own = not isfinite(r.critical_value)
+    multiplier = ("a multiplier of its own (from its df, column 'multiplier')" if own
+                  else num(r.critical_value, 4))
     blocks: list[Block] = [Paragraph((
         "Contrast family ", Code(r.family), f": {len(r.rows)} contrasts (rank {r.rank}) of the "
         "level means in model ", Code(r.model), f", residual df {r.df}. Method: "
-        f"{r.method_name}, controlling the {r.error_rate}; tests are {side}. Intervals: "
-        f"{r.interval} at {r.level:.0%}, estimate -/+ {num(r.critical_value, 4)} x std error.",))]
-    rows = tuple((row.label, weight_text(row.weights), num(row.estimate), num(row.std_error),
-                  num(row.t, 4), pval(row.p), pval(row.p_adjusted), _limit(row.lower),
-                  _limit(row.upper)) for row in r.rows)
-    blocks.append(Table(("contrast", "weights", "estimate", "std error", "t", "p", "adjusted p",
-                         "lower", "upper"), rows, align="llrrrrrrr",
+        f"{r.method_name}, controlling the {r.error_rate}; tests are {side}. Standard errors: "
+        f"{r.variance_name}. Intervals: {r.interval} at {r.level:.0%}, estimate -/+ "
+        f"{multiplier} x std error.",))]
+    rows = tuple((row.label, weight_text(row.weights), num(row.estimate), num(row.std_error))
+                 + ((num(row.df, 4), num(row.critical_value, 4)) if own else ())
+                 + (num(row.t, 4), pval(row.p), pval(row.p_adjusted), _limit(row.lower),
+                    _limit(row.upper)) for row in r.rows)
+    blocks.append(Table(("contrast", "weights", "estimate", "std error")
+                        + (("df", "multiplier") if own else ())
+                        + ("t", "p", "adjusted p", "lower", "upper"), rows,
+                        align="llrr" + ("rr" if own else "") + "rrrrr",
                         caption="Each contrast: its weights on the level means, estimate and "
                                 "test, and its interval."))
     separate = r.model in {m.fit.name for m in a.models if m.fit.rank == len(a.levels)}
-    se_rule = (("SE = s sqrt(sum_i w_i^2 / n_i), s the pooled residual standard deviation",
-                r"SE = s\sqrt{\textstyle\sum_i w_i^2 / n_i}") if separate and not r.adjusted_means
-               else ("SE = sqrt(c' Cov(b) c), c the contrast written on the coefficients",
-                     r"SE = \sqrt{c^\top \widehat{\mathrm{Cov}}(b)\, c}"))
+    se_rule = _se_rule(r.variance, separate and not r.adjusted_means)
     worked = min(len(r.rows), _WORKED_CONTRASTS)
     lines = [line for i in range(worked) for line in _estimate_lines(r, i)]
     blocks.append(Paragraph((
