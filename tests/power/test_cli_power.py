@@ -42,7 +42,44 @@ def test_curve_and_text(capsys: pytest.CaptureFixture[str]) -> None:
     assert "45 per level" in text and "qualified statistician" in text
 
 
+def test_target_with_allocation(capsys: pytest.CaptureFixture[str]) -> None:
+    argv = ["power", "--means", "500,500,500.8", "--levels", "control,A,B", "--sigma", "1.2",
+            "--target", "0.8", "--allocation", "2,1,1"]
+    out = _json(capsys, argv)
+    ref = plan_comparison({"control": 500, "A": 500, "B": 500.8}, 1.2).group_size(
+        0.8, allocation={"control": 2, "A": 1, "B": 1})
+    assert out["sizes"] == {"control": ref.sizes[0], "A": ref.sizes[1], "B": ref.sizes[2]}
+    assert out["sizes"]["control"] == 2 * out["sizes"]["A"] == 2 * out["smallest_group"]
+    assert out["n_per_level"] is None and out["n_total"] == sum(ref.sizes)
+    assert out["allocation"] == {"control": 2.0, "A": 1.0, "B": 1.0}
+    assert out["power"] >= 0.8 > out["power_at_n_minus_1"]
+    assert out["sizes_at_n_minus_1"] == dict(zip(["control", "A", "B"], ref.sizes_below))
+    assert main(argv) == 0
+    text = capsys.readouterr().out
+    assert "in the ratios 2 : 1 : 1" in text
+    assert f"group sizes {ref.sizes[0]}, {ref.sizes[1]}, {ref.sizes[2]}" in text
+    out = _json(capsys, ["power", "--means", "0,0.5", "--sigma", "1", "--contrast=-1,1",
+                         "--target", "0.9", "--allocation", "1,2.5"])
+    ref = plan_contrast([0, 0.5], [-1, 1], 1.0).group_size(0.9, allocation=[1, 2.5])
+    assert list(out["sizes"].values()) == list(ref.sizes) and out["power"] == ref.power
+    out = _json(capsys, ["power", "--effect-f", "0.25", "--groups", "3", "--target", "0.8",
+                         "--allocation", "1,1,1"])
+    assert out["n_per_level"] == plan_effect_size(0.25, 3).group_size(0.8).n
+
+
 @pytest.mark.parametrize(("argv", "message"), [
+    (["--means", "1,2", "--sigma", "1", "--n", "5", "--allocation", "2,1"],
+     "--allocation goes with --target"),
+    (["--means", "1,2", "--sigma", "1", "--curve", "2:9", "--allocation", "2,1"],
+     "--allocation goes with --target"),
+    (["--means", "1,2", "--sigma", "1", "--target", "0.8", "--allocation", "2,x"],
+     "--allocation must be numbers separated by commas"),
+    (["--means", "1,2", "--levels", "a,b", "--sigma", "1", "--target", "0.8", "--allocation",
+      "2,0"], "the allocation ratio for level 'b' must be a positive finite number"),
+    (["--means", "1,2,3", "--sigma", "1", "--target", "0.8", "--allocation", "2,1"],
+     "the allocation must give one ratio per level (3: 1, 2, 3)"),
+    (["--effect-f", "0.25", "--groups", "3", "--target", "0.8", "--allocation", "2,1,1"],
+     "cannot be planned from Cohen's f alone"),
     (["--means", "1,2", "--n", "5"], "give --means and --sigma"),
     (["--means", "1,x", "--sigma", "1", "--n", "5"], "--means must be numbers"),
     (["--means", "1,2", "--sigma", "1", "--n", "5.5"], "--n must be whole numbers"),

@@ -5,6 +5,7 @@ Examples (invented numbers)::
     nestfit power --means 500,500,500.8 --sigma 1.2 --n 20
     nestfit power --means 500,500,500.8 --sigma 1.2 --target 0.8
     nestfit power --means 500,500,500.8 --sigma 1.2 --contrast=-0.5,-0.5,1 --target 0.9
+    nestfit power --means 500,500,500.8 --sigma 1.2 --target 0.8 --allocation 2,1,1
     nestfit power --effect-f 0.25 --groups 4 --curve 10:60:10
 
 Weights starting with a minus sign need the ``--contrast=...`` form.
@@ -28,8 +29,9 @@ def register(sub: Any) -> None:
         help="power, group size or power curve for a planned comparison or contrast",
         description=(
             "Plan a test of group means from assumed means and sigma (or Cohen's f): the "
-            "power at a group size (--n), the smallest equal group size reaching a power "
-            "(--target), or the power over a range of group sizes (--curve FROM:TO[:STEP])."
+            "power at a group size (--n), the smallest group sizes reaching a power "
+            "(--target; equal, or in the ratios of --allocation), or the power over a range "
+            "of group sizes (--curve FROM:TO[:STEP])."
         ),
     )
     p.add_argument("--means", metavar="M1,M2,...", help="assumed mean of each level")
@@ -47,11 +49,16 @@ def register(sub: Any) -> None:
     p.add_argument("--alternative", choices=["two-sided", "greater", "less"],
                    default="two-sided", help="rejection region of the contrast's t test")
     p.add_argument("--alpha", type=float, default=0.05, help="level of the test (default 0.05)")
+    p.add_argument("--allocation", metavar="R1,R2,...",
+                   help="with --target: ratios of the group sizes in level order, e.g. 2,1,1 "
+                        "for a first group twice each of the others (smallest group gets n, "
+                        "the others n * ratio / smallest ratio, rounded up)")
     what = p.add_mutually_exclusive_group(required=True)
     what.add_argument("--n", metavar="N[,N2,...]",
                       help="observations per level (one number, or one per level)")
     what.add_argument("--target", type=float, metavar="POWER",
-                      help="solve for the smallest equal group size reaching this power")
+                      help="solve for the smallest group sizes reaching this power (equal "
+                           "sizes unless --allocation is given)")
     what.add_argument("--curve", metavar="FROM:TO[:STEP]",
                       help="power at equal group sizes FROM, FROM+STEP, ..., TO")
     add_format(p)
@@ -62,11 +69,16 @@ def run(args: argparse.Namespace) -> int:
     """Build the plan from the options and print the answer asked for."""
     plan = _plan(args)
     result: Any
+    if args.allocation is not None and args.target is None:
+        raise DataError("--allocation goes with --target; for the power at unequal sizes give "
+                        "--n one size per level")
     if args.n is not None:
         sizes = _ints(args.n, "--n")
         result = plan.power(sizes[0] if len(sizes) == 1 else sizes)
     elif args.target is not None:
-        result = plan.group_size(args.target)
+        allocation = (None if args.allocation is None
+                      else _floats(args.allocation, "--allocation"))
+        result = plan.group_size(args.target, allocation=allocation)
     else:
         result = plan.curve(_range(args.curve))
     emit(result.to_dict(), str(result), args.format)

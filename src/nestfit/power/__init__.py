@@ -6,8 +6,9 @@ plan_contrast(means, weights, sigma) -> PowerPlan
     t test of one contrast.
 plan_effect_size(f, groups) -> PowerPlan
     One-way F test from Cohen's f.
-PowerPlan.power(n), .group_size(target), .curve(n_values)
-    Power at given sizes; smallest equal n reaching a target; a power curve.
+PowerPlan.power(n), .group_size(target, allocation=None), .curve(n_values)
+    Power at given sizes; smallest sizes (equal, or in fixed ratios) reaching a target;
+    a power curve.
 power_f(noncentrality, df1, df2, alpha), power_t(noncentrality, df, alpha, alternative)
     The power formulas themselves (hooks for contrast objects).
 """

@@ -91,14 +91,17 @@ def power_t(noncentrality: float, df: float, alpha: float = 0.05,
         raise DataError(f"the noncentrality must be finite. Got {noncentrality!r}.")
     if not df > 0:
         raise DataError(f"degrees of freedom must be positive. Got {df!r}.")
+    # The lower tail P(T'(delta) < -c) is taken as P(T'(-delta) > c) (the noncentral t
+    # is symmetric under delta -> -delta, t -> -t): scipy's nct.cdf can return NaN far
+    # in the lower tail (df = 1, delta around 10 or more) where nct.sf stays finite.
     if alternative == "two-sided":
         crit = float(stats.t.isf(alpha / 2.0, df))
         return float(stats.nct.sf(crit, df, noncentrality)
-                     + stats.nct.cdf(-crit, df, noncentrality))
+                     + stats.nct.sf(crit, df, -noncentrality))
     if alternative == "greater":
         return float(stats.nct.sf(stats.t.isf(alpha, df), df, noncentrality))
     if alternative == "less":
-        return float(stats.nct.cdf(-stats.t.isf(alpha, df), df, noncentrality))
+        return float(stats.nct.sf(stats.t.isf(alpha, df), df, -noncentrality))
     raise DataError(
         f"alternative must be 'two-sided', 'greater' or 'less'. Got {alternative!r} instead."
     )

@@ -12,8 +12,11 @@ from nestfit.checks._result import is_real
 from nestfit.design._partition import Partition
 from nestfit.errors import DataError
 
-__all__ = ["as_count", "block_means", "is_count", "model_name", "read_means", "read_partition",
-           "read_sigma"]
+__all__ = ["allocated_sizes", "as_count", "block_means", "is_count", "model_name",
+           "read_allocation", "read_means", "read_partition", "read_sigma"]
+
+#: Relative tolerance within which ``m * r_i / min(r)`` counts as a whole number.
+ROUNDING_TOLERANCE = 1e-9
 
 
 def read_means(means: Any, levels: Sequence[str] | None) -> tuple[tuple[str, ...], np.ndarray]:
@@ -94,3 +97,61 @@ def as_count(v: Any) -> int:
     if not is_count(v):
         raise DataError(f"group sizes must be whole numbers. Got {v!r}.")
     return int(v)
+
+
+def read_allocation(allocation: Any, levels: tuple[str, ...]) -> tuple[float, ...]:
+    """Allocation ratios in level order, divided by the smallest (which becomes 1).
+
+    ``allocation`` is ``{level: ratio}`` (every level once, keys compared as strings)
+    or a sequence of ratios in level order; each ratio positive and finite.
+
+    Raises
+    ------
+    DataError
+        A level without a ratio, a key that is not a level, the wrong number of
+        ratios, or a ratio that is not a positive finite number (naming the level).
+    """
+    listed = ", ".join(levels)
+    if isinstance(allocation, Mapping):
+        given = {str(key): value for key, value in allocation.items()}
+        extra = [key for key in given if key not in levels]
+        if extra:
+            raise DataError(f"the allocation names {extra[0]!r}, which is not a level "
+                            f"(levels: {listed})")
+        missing = [lev for lev in levels if lev not in given]
+        if missing:
+            raise DataError(f"the allocation gives no ratio for level {missing[0]!r}; give one "
+                            f"ratio for every level ({listed})")
+        values = [given[lev] for lev in levels]
+    elif isinstance(allocation, (Sequence, np.ndarray)) and not isinstance(allocation, str):
+        values = list(allocation)
+        if len(values) != len(levels):
+            raise DataError(f"the allocation must give one ratio per level ({len(levels)}: "
+                            f"{listed}). Got {len(values)}.")
+    else:
+        raise DataError("the allocation must be {level: ratio} or one ratio per level in "
+                        f"level order ({listed}). Got {allocation!r}.")
+    for lev, value in zip(levels, values):
+        if not (is_real(value) and math.isfinite(value) and value > 0):
+            raise DataError(f"the allocation ratio for level {lev!r} must be a positive finite "
+                            f"number. Got {value!r}.")
+    smallest = min(float(v) for v in values)
+    return tuple(float(v) / smallest for v in values)
+
+
+def allocated_sizes(m: int, ratios: tuple[float, ...]) -> tuple[int, ...]:
+    """Group sizes ``n_i = ceil(m * q_i)`` for ratios ``q_i = r_i / min(r)`` (from
+    :func:`read_allocation`), so the smallest group gets exactly ``m``.
+
+    A product within a relative ``ROUNDING_TOLERANCE`` of a whole number counts as
+    that number, so that ratios such as ``0.3 : 0.1`` (stored as 2.9999999999999996)
+    give exactly ``3 m`` rather than one more or less. Every ``n_i`` is
+    non-decreasing in ``m``.
+    """
+    sizes = []
+    for q in ratios:
+        x = m * q
+        nearest = round(x)
+        sizes.append(int(nearest) if abs(x - nearest) <= ROUNDING_TOLERANCE * max(1.0, x)
+                     else math.ceil(x))
+    return tuple(sizes)

@@ -3,8 +3,8 @@
 A :class:`PowerPlan` fixes what is assumed (means and sigma, or Cohen's f) and
 what is tested (a nested comparison of two partitions of the levels, or one
 contrast) and answers three questions: the power at given group sizes
-(:meth:`PowerPlan.power`), the smallest equal group size reaching a target power
-(:meth:`PowerPlan.group_size`) and the power over a range of sizes
+(:meth:`PowerPlan.power`), the smallest group sizes, equal or in fixed ratios,
+reaching a target power (:meth:`PowerPlan.group_size`) and the power over a range of sizes
 (:meth:`PowerPlan.curve`).
 
 Noncentrality with ``n_i`` observations in level ``i`` and ``N = sum n_i``:
@@ -48,6 +48,7 @@ from nestfit.power._inputs import (
     read_sigma,
 )
 from nestfit.power._results import GroupSize, PowerCurve, PowerResult
+from nestfit.power._search import solve_group_size
 
 __all__ = ["PowerPlan", "plan_comparison", "plan_contrast", "plan_effect_size"]
 
@@ -197,64 +198,67 @@ class PowerPlan:
                            power_f(nc, dfs[0], dfs[1], self.alpha), "Cohen's f",
                            math.sqrt(nc / total))
 
-    def group_size(self, target: float, *, max_n: int = MAX_GROUP_SIZE) -> GroupSize:
-        """The smallest equal group size ``n >= 2`` whose power is at least ``target``.
+    def group_size(self, target: float, *,
+                   allocation: Mapping[Any, float] | Sequence[float] | np.ndarray | None = None,
+                   max_n: int = MAX_GROUP_SIZE) -> GroupSize:
+        """The smallest group sizes, equal or in fixed ratios, whose power is at least ``target``.
+
+        Sizes are indexed by a whole number ``m``: without ``allocation`` every level
+        gets ``m``; with ratios ``r_i`` level ``i`` gets
+
+            n_i = ceil(m * r_i / min(r)),
+
+        so the smallest group gets exactly ``m`` and the others are rounded up (a
+        product within a relative 1e-9 of a whole number counts as that number, so
+        ``0.3 : 0.1`` gives exactly ``3 m``). The search starts at ``m = 1`` if those
+        sizes leave error degrees of freedom, else at ``m = 2`` (always for equal sizes).
 
         Parameters
         ----------
         target : float
             Wanted power, ``alpha < target < 1``.
+        allocation : mapping or sequence, optional
+            One positive ratio per level: ``{level: ratio}`` or ratios in level order,
+            e.g. ``{"control": 2, "A": 1, "B": 1}`` for a control group twice the size
+            of each treatment group. Only the ratios matter (``(2, 1, 1)`` and
+            ``(4, 2, 2)`` agree).
         max_n : int
-            Largest group size searched.
+            Largest ``m`` searched (group size, or size of the smallest group).
 
         Returns
         -------
         GroupSize
-            With the power at ``n`` and at ``n - 1``.
+            With the sizes and power at ``m`` and at ``m - 1``.
 
         Raises
         ------
         DataError
             ``target`` outside ``(alpha, 1)``; an effect of zero (power stays at
             ``alpha``) or of the wrong sign for a one-sided test; target not reached
-            by ``max_n``.
+            by ``max_n``; a bad ``max_n``; an allocation with a level missing, a
+            name that is not a level, the wrong length, or a ratio that is not a
+            positive finite number; unequal ratios for a plan from Cohen's f.
 
         Notes
         -----
-        Power increases with ``n`` (the noncentrality grows in proportion and the
-        error df grow), so the search doubles ``n`` until the target is met and
-        then bisects.
+        The search doubles ``m`` until the target is met and then bisects, so the
+        ``m`` returned always has power at least ``target`` at ``m`` and below it
+        at ``m - 1``. It is the smallest such ``m`` whenever power is non-decreasing
+        in ``m``: with equal sizes or whole-number ratios ``r_i / min(r)`` (the sizes
+        are then exactly proportional to ``m``, and so is ``lambda``), and for
+        contrasts and equal vs separate means with any ratios (``|delta|``,
+        ``lambda`` and the error df never fall when a group grows). For a
+        comparison whose larger model pools levels, ``lambda`` depends on the
+        shares within pooled blocks, and rounding can make power dip slightly
+        from one ``m`` to the next; a smaller ``m`` may then already reach the target.
+
+        Plans from Cohen's f (:func:`plan_effect_size`) refuse unequal ratios:
+        ``f`` weights each mean by its share ``n_i / N``, so a given ``f`` is tied
+        to the shares it was worked out for and says nothing about how power
+        changes with them. Plan such a study from means and sigma instead.
+        Equal ratios are accepted there and give the equal-size answer.
         """
-        target = check_alpha(target, "target power")
-        if target <= self.alpha:
-            raise DataError(
-                f"target power {target:g} is not above alpha = {self.alpha:g}: a test at level "
-                "alpha has that power with no data at all; ask for more"
-            )
-        nc = self.noncentrality(2)
-        if nc == 0 or (self.alternative == "greater" and nc < 0) or (
-                self.alternative == "less" and nc > 0):
-            why = ("the assumed means do not differ in the way tested" if nc == 0
-                   else f"the assumed effect goes against the {self.alternative!r} alternative")
-            raise DataError(f"{why}: power never rises above alpha, whatever the group size")
-
-        def meets(m: int) -> bool:
-            return self.power(m).power >= target
-
-        if meets(2):
-            return GroupSize(2, float(target), self.power(2), None)
-        low, high = 2, 4
-        while not meets(high):
-            if high >= max_n:
-                raise DataError(
-                    f"power {target:g} is not reached with {max_n} observations per level "
-                    f"(power there {self.power(max_n).power:.4g}); the assumed effect is too small"
-                )
-            low, high = high, min(2 * high, max_n)
-        while high - low > 1:
-            mid = (low + high) // 2
-            low, high = (low, mid) if meets(mid) else (mid, high)
-        return GroupSize(high, float(target), self.power(high), self.power(high - 1).power)
+        return solve_group_size(self, target, allocation, max_n)
 
     def curve(self, n_values: Iterable[int]) -> PowerCurve:
         """Power at each equal group size in ``n_values``.
@@ -383,7 +387,8 @@ def plan_effect_size(f: float, groups: int, *, alpha: float = 0.05) -> PowerPlan
     Returns
     -------
     PowerPlan
-        ``lambda = f^2 N`` on ``(k - 1, N - k)`` df.
+        ``lambda = f^2 N`` on ``(k - 1, N - k)`` df. Its ``group_size`` refuses unequal
+        ``allocation`` ratios (``f`` is tied to the shares it was worked out for).
     """
     if not (is_real(f) and math.isfinite(f) and f >= 0):
         raise DataError(f"Cohen's f must be a finite number >= 0. Got {f!r}.")

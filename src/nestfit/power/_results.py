@@ -93,48 +93,113 @@ class PowerResult:
 
 @dataclass(frozen=True)
 class GroupSize:
-    """The smallest equal group size whose power reaches a target.
+    """The smallest group sizes, equal or in fixed ratios, whose power reaches a target.
+
+    Sizes are indexed by a whole number ``m``: ``m`` per level for equal sizes, or
+    ``n_i = ceil(m * r_i / min(r))`` for an allocation ``r`` (the smallest group gets
+    ``m``; see :meth:`PowerPlan.group_size`).
 
     Attributes
     ----------
     n : int
-        Observations per level.
+        ``m``: observations per level (equal sizes) or in the smallest group.
     target : float
         The power asked for.
     result : PowerResult
-        Power at ``n`` (at least ``target``).
+        Power at the sizes for ``m`` (at least ``target``).
     power_below : float or None
-        Power at ``n - 1`` (below ``target``); None when ``n - 1 < 2``.
+        Power at the sizes for ``m - 1`` (below ``target``); None when ``m`` is the
+        smallest value searched.
+    allocation : tuple of float or None
+        Ratios in level order divided by the smallest; None when equal sizes were asked.
+    levels : tuple of str
+        Level names (empty when not given).
+    sizes_below : tuple of int or None
+        The sizes for ``m - 1`` (None with ``power_below``).
     """
 
     n: int
     target: float
     result: PowerResult
     power_below: float | None
+    allocation: tuple[float, ...] | None = None
+    levels: tuple[str, ...] = ()
+    sizes_below: tuple[int, ...] | None = None
 
     @property
     def power(self) -> float:
-        """Power at ``n``."""
+        """Power at the returned sizes."""
         return self.result.power
 
+    @property
+    def sizes(self) -> tuple[int, ...]:
+        """Observations per level, in level order."""
+        return self.result.sizes
+
+    @property
+    def n_total(self) -> int:
+        """``N = sum n_i``."""
+        return self.result.n_total
+
+    @property
+    def equal(self) -> bool:
+        """Whether every level gets the same size."""
+        return len(set(self.sizes)) == 1
+
+    def _names(self) -> tuple[str, ...]:
+        return self.levels or tuple(str(j + 1) for j in range(len(self.sizes)))
+
+    def _by_level(self, values: tuple[Any, ...] | None) -> dict[str, Any] | None:
+        return None if values is None else dict(zip(self._names(), values))
+
     def to_dict(self) -> dict[str, Any]:
-        """Plain-dict (JSON-ready) form."""
-        return {"n_per_level": self.n, "target": self.target, "power": self.power,
-                "power_at_n_minus_1": self.power_below, "result": self.result.to_dict()}
+        """Plain-dict (JSON-ready) form; ``n_per_level`` is None for unequal sizes."""
+        return {"n_per_level": self.n if self.equal else None, "smallest_group": self.n,
+                "sizes": self._by_level(self.sizes), "n_total": self.n_total,
+                "allocation": self._by_level(self.allocation), "target": self.target,
+                "power": self.power, "power_at_n_minus_1": self.power_below,
+                "sizes_at_n_minus_1": self._by_level(self.sizes_below),
+                "result": self.result.to_dict()}
 
     def to_frame(self) -> pd.DataFrame:
-        """One row: n_per_level, n_total, target, power, power_at_n_minus_1."""
-        return pd.DataFrame([{"n_per_level": self.n, "n_total": self.result.n_total,
-                              "target": self.target, "power": self.power,
-                              "power_at_n_minus_1": self.power_below}])
+        """One row: n_per_level, smallest_group, sizes (in level order), n_total, target,
+        power, power_at_n_minus_1."""
+        return pd.DataFrame([{"n_per_level": self.n if self.equal else None,
+                              "smallest_group": self.n,
+                              "sizes": ",".join(str(s) for s in self.sizes),
+                              "n_total": self.n_total, "target": self.target,
+                              "power": self.power, "power_at_n_minus_1": self.power_below}])
+
+    def sizes_frame(self) -> pd.DataFrame:
+        """One row per level: level, ratio, n, n_at_n_minus_1."""
+        ratios = self.allocation or (1.0,) * len(self.sizes)
+        below = self.sizes_below or (None,) * len(self.sizes)
+        return pd.DataFrame({"level": list(self._names()), "ratio": list(ratios),
+                             "n": list(self.sizes), "n_at_n_minus_1": list(below)})
 
     def __str__(self) -> str:
-        below = ("" if self.power_below is None
-                 else f"; with {self.n - 1} per level it is {format_number(self.power_below, 4)}")
+        if self.equal:
+            below = ("" if self.power_below is None
+                     else f"; with {self.n - 1} per level it is "
+                          f"{format_number(self.power_below, 4)}")
+            return "\n".join([
+                f"Group size for power {self.target:g}: {self.n} per level (N = {self.n_total})",
+                f"  power {format_number(self.power, 4)} with {self.n} per level{below}",
+                str(self.result),
+            ])
+        ratios = self.allocation or (1.0,) * len(self.sizes)
+        below_sizes = self.sizes_below or (None,) * len(self.sizes)
+        rows = [[name, format_number(q, 4), str(n), format_number(b)]
+                for name, q, n, b in zip(self._names(), ratios, self.sizes, below_sizes)]
+        below = ("" if self.power_below is None or self.sizes_below is None
+                 else f"; one step down (smallest group {self.n - 1}, N = "
+                      f"{sum(self.sizes_below)}) it is {format_number(self.power_below, 4)}")
         return "\n".join([
-            f"Group size for power {self.target:g}: {self.n} per level "
-            f"(N = {self.result.n_total})",
-            f"  power {format_number(self.power, 4)} with {self.n} per level{below}",
+            f"Group sizes for power {self.target:g} in the ratios "
+            f"{' : '.join(format_number(q, 4) for q in ratios)}: smallest group {self.n} "
+            f"(N = {self.n_total})",
+            text_table(["level", "ratio", "n", "n one step down"], rows),
+            f"  power {format_number(self.power, 4)} at these sizes{below}",
             str(self.result),
         ])
 
