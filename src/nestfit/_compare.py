@@ -304,9 +304,9 @@ def _check_same_data(a: Fit, b: Fit) -> None:
         and not np.array_equal(a.weights, b.weights)
     ):
         raise NotNestedError(f"{pair} use different weights")
-    if a.row_labels is not None and b.row_labels is not None and not np.array_equal(
-        np.asarray(a.row_labels), np.asarray(b.row_labels)
-    ):
+    if a.row_labels is not None and b.row_labels is not None and (
+        a.row_labels is not b.row_labels
+    ) and not np.array_equal(np.asarray(a.row_labels), np.asarray(b.row_labels)):
         raise NotNestedError(f"{pair} use different rows; fit both on the same rows")
 
 

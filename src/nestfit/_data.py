@@ -7,7 +7,7 @@ dropped for missing values are counted in a :class:`MissingReport`.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, Literal
 
@@ -16,7 +16,14 @@ import pandas as pd
 
 from nestfit.errors import ColumnError, DataError
 
-__all__ = ["MissingPolicy", "MissingReport", "check_missing_policy", "clean_columns"]
+__all__ = [
+    "CleanArrays",
+    "MissingPolicy",
+    "MissingReport",
+    "check_missing_policy",
+    "clean_arrays",
+    "clean_columns",
+]
 
 MissingPolicy = Literal["drop", "raise"]
 
@@ -64,6 +71,8 @@ def check_missing_policy(missing: str) -> MissingPolicy:
 
 
 def _is_missing(col: pd.Series) -> np.ndarray:
+    if isinstance(col.dtype, pd.CategoricalDtype):
+        return _missing_categorical(col.array)
     miss = col.isna().to_numpy()
     if col.dtype == object or pd.api.types.is_string_dtype(col):
         text = col.astype(str).str.strip()
@@ -160,6 +169,128 @@ def clean_columns(
     if len(frame) == 0:
         raise DataError(f"no rows left after dropping missing values ({report})")
     return frame, report
+
+
+def _missing_categorical(cat: Any) -> np.ndarray:
+    """Missing cells of a pandas Categorical: code -1, or a category that is blank text.
+
+    The same cells as ``isna() | (astype(str).str.strip() == "")`` without
+    turning every cell into a string.
+    """
+    codes = np.asarray(cat.codes)
+    miss = codes < 0
+    blank = [i for i, c in enumerate(cat.categories) if str(c).strip() == ""]
+    if blank:
+        miss |= np.isin(codes, blank)
+    return miss
+
+
+@dataclass(frozen=True)
+class CleanArrays:
+    """What :func:`clean_arrays` kept: the columns, the report and the rows' positions."""
+
+    columns: dict[str, Any]
+    report: MissingReport
+    row_labels: np.ndarray
+
+
+def _fast_numeric(v: Any) -> bool:
+    return isinstance(v, np.ndarray) and v.ndim == 1 and v.dtype.kind in "fiu"
+
+
+def _fast_categorical(v: Any) -> bool:
+    return isinstance(v, pd.Categorical) or (
+        isinstance(v, np.ndarray) and v.ndim == 1 and v.dtype.kind in "fiu"
+    )
+
+
+def clean_arrays(
+    columns: Mapping[str, Any],
+    *,
+    numeric: Sequence[str],
+    categorical: Sequence[str] = (),
+    missing: str = "drop",
+) -> CleanArrays | None:
+    """:func:`clean_columns` for one-dimensional numpy arrays, without building a DataFrame.
+
+    Numeric columns must be integer or floating ndarrays; categorical columns
+    pandas ``Categorical`` or integer or floating ndarrays, all of one length.
+    Returns ``None`` for any other input, which then takes :func:`clean_columns`
+    (so every other dtype gets that function's checks and messages). The checks
+    and messages are those of :func:`clean_columns` for a mapping of arrays:
+    infinite values are an error naming the first row (its position), NaN
+    (and code -1 or blank-text categories of a Categorical) count as missing,
+    and the policy drops or raises alike.
+
+    Returns
+    -------
+    CleanArrays or None
+        Numeric columns as new float64 arrays, categorical columns as new
+        arrays or Categoricals restricted to the rows kept; ``row_labels`` are
+        the positions of those rows.
+    """
+    policy = check_missing_policy(missing)
+    used = list(dict.fromkeys([*numeric, *categorical]))
+    if any(c not in columns for c in used):
+        return None
+    if not all(_fast_numeric(columns[c]) for c in numeric) or not all(
+        _fast_categorical(columns[c]) for c in categorical
+    ):
+        return None
+    n = len(columns[used[0]])
+    if any(len(columns[c]) != n for c in used):
+        return None
+    values: dict[str, Any] = {}
+    miss_cols: dict[str, np.ndarray | None] = {}
+    for name in numeric:
+        col = np.asarray(columns[name], dtype=np.float64)
+        if col.dtype.kind == "f" and not np.isfinite(columns[name]).all():
+            inf = np.isinf(col)
+            if inf.any():
+                where = int(np.flatnonzero(inf)[0])
+                raise DataError(
+                    f"column {name!r} has an infinite value (row {where!r}); "
+                    "remove or correct it: no least-squares result is meaningful with it"
+                )
+            miss_cols[name] = np.isnan(col)
+        else:
+            miss_cols[name] = None
+        values[name] = col
+    for name in categorical:
+        if name in values:
+            continue
+        lab = columns[name]
+        values[name] = lab
+        if isinstance(lab, pd.Categorical):
+            miss_cols[name] = _missing_categorical(lab)
+        elif lab.dtype.kind == "f":
+            miss_cols[name] = np.isnan(lab)
+        else:
+            miss_cols[name] = None
+    any_miss: np.ndarray | None = None
+    counts: dict[str, int] = {}
+    for c in used:
+        m = miss_cols[c]
+        if m is None or not m.any():
+            continue
+        counts[c] = int(m.sum())
+        any_miss = m.copy() if any_miss is None else any_miss | m
+    if any_miss is not None and policy == "raise":
+        cols = ", ".join(f"{c} ({k})" for c, k in counts.items())
+        raise DataError(
+            f"missing values in column(s) {cols}; drop those rows or pass missing='drop'"
+        )
+    dropped = 0 if any_miss is None else int(any_miss.sum())
+    report = MissingReport(n, dropped, counts)
+    if n - dropped == 0:
+        raise DataError(f"no rows left after dropping missing values ({report})")
+    if any_miss is None:
+        # own copies of the caller's arrays (a Categorical's codes are recoded anyway)
+        kept = {c: (v.copy() if v is columns[c] and isinstance(v, np.ndarray) else v)
+                for c, v in values.items()}
+        return CleanArrays(kept, report, np.arange(n))
+    keep = ~any_miss
+    return CleanArrays({c: v[keep] for c, v in values.items()}, report, np.flatnonzero(keep))
 
 
 def _is_missing_series(col: pd.Series) -> pd.Series:

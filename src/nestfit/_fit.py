@@ -495,11 +495,11 @@ def _fit_dense(
                                   rank_tol=rank_tol, warn=False)
             constant_coefficients = np.nan_to_num(np.asarray(const.coefficients, dtype=float))
     if has_constant:
-        w = np.ones_like(y) if weights is None else weights
-        mean = _accurate_sum(w * y) / _accurate_sum(w)
+        total_w = float(y.size) if weights is None else _accurate_sum(weights)
+        mean = _accurate_sum(y if weights is None else weights * y) / total_w
         dev = y - mean
-        mean += _accurate_sum(w * dev) / _accurate_sum(w)
-        total = _weighted_square_sum(y - mean, weights)
+        mean += _accurate_sum(dev if weights is None else weights * dev) / total_w
+        total = _weighted_square_sum(np.subtract(y, mean, out=dev), weights)
     else:
         total = _weighted_square_sum(y, weights)
     return {

@@ -13,9 +13,10 @@ from functools import cached_property
 from typing import Any
 
 import numpy as np
+import pandas as pd
 
 from nestfit._compare import Comparison, compare
-from nestfit._data import MissingReport, check_missing_policy, clean_columns
+from nestfit._data import MissingReport, check_missing_policy, clean_arrays, clean_columns
 from nestfit._fit import Fit, fit_design
 from nestfit.design._coding import Coding, Indicator, coding_from_name
 from nestfit.design._design import ColumnInfo, Design
@@ -87,47 +88,74 @@ def groups(
             raise DataError(
                 "give either data with column names, or arrays y= and factor=, not both"
             )
-        if factor is None:
-            raise DataError("factor= is required with y=: one label per response value")
-        y_arr = np.asarray(y)
-        labels = np.asarray(factor.array if hasattr(factor, "array") else factor)
-        if y_arr.ndim != 1 or labels.ndim != 1 or y_arr.size != labels.size:
-            raise DataError(
-                f"y has shape {y_arr.shape} and factor has shape {labels.shape}; "
-                "both must be one-dimensional and of equal length"
-            )
-        columns: dict[str, Any] = {"y": y_arr, "group": factor if hasattr(factor, "array")
-                                   else labels}
-        response_name, factor_name = response or "y", "group"
-        numeric = ["y"]
-        if weights is not None:
-            columns["weights"] = np.asarray(weights)
-            numeric.append("weights")
-        frame, report = clean_columns(columns, numeric=numeric, categorical=["group"],
-                                      missing=missing)
-        y_col, f_col, w_col = "y", "group", ("weights" if weights is not None else None)
+        return _groups_from_arrays(y, factor, response, weights, levels, missing, offset)
+    if data is None or response is None or factor is None:
+        raise DataError("groups() needs data, response and factor (or y= and factor=)")
+    if not isinstance(factor, str):
+        raise DataError("with data, factor must be a column name")
+    numeric = [response]
+    if weights is not None:
+        if not isinstance(weights, str):
+            raise DataError("with data, weights must be a column name")
+        numeric.append(weights)
+    frame, report = clean_columns(data, numeric=numeric, categorical=[factor], missing=missing)
+    w = frame[weights].to_numpy(dtype=float) if weights is not None else None
+    return _finish(response, factor, frame[response].to_numpy(dtype=float), frame[factor], w,
+                   weights, report, frame.index.to_numpy(), levels, offset)
+
+
+def _groups_from_arrays(
+    y: Any, factor: Any, response: str | None, weights: Any, levels: Sequence[Any] | None,
+    missing: str, offset: float,
+) -> GroupModels:
+    """``groups(y=..., factor=...)``: numpy-only cleaning when the arrays allow it."""
+    if factor is None:
+        raise DataError("factor= is required with y=: one label per response value")
+    y_arr = np.asarray(y)
+    if isinstance(factor, pd.Series):
+        # A Series brings its index; rows are matched by position only when it is 0..n-1.
+        positional = isinstance(factor.index, pd.RangeIndex) and factor.index.equals(
+            pd.RangeIndex(len(factor)))
+        labels: Any = factor.array if positional else factor
+        shape: tuple[int, ...] = factor.shape
+    elif isinstance(factor, pd.Categorical):
+        labels, shape = factor, factor.shape
     else:
-        if data is None or response is None or factor is None:
-            raise DataError("groups() needs data, response and factor (or y= and factor=)")
-        if not isinstance(factor, str):
-            raise DataError("with data, factor must be a column name")
-        numeric = [response]
-        w_col = None
-        if weights is not None:
-            if not isinstance(weights, str):
-                raise DataError("with data, weights must be a column name")
-            numeric.append(weights)
-            w_col = weights
-        frame, report = clean_columns(data, numeric=numeric, categorical=[factor],
-                                      missing=missing)
-        response_name, factor_name = response, factor
-        y_col, f_col = response, factor
-    fac = Factor.from_values(frame[f_col], name=factor_name, levels=levels)
-    w = frame[w_col].to_numpy(dtype=float) if w_col is not None else None
+        labels = np.asarray(factor)
+        shape = labels.shape
+    if y_arr.ndim != 1 or len(shape) != 1 or y_arr.size != shape[0]:
+        raise DataError(
+            f"y has shape {y_arr.shape} and factor has shape {shape}; "
+            "both must be one-dimensional and of equal length"
+        )
+    columns: dict[str, Any] = {"y": y_arr, "group": labels}
+    numeric = ["y"]
+    if weights is not None:
+        columns["weights"] = np.asarray(weights)
+        numeric.append("weights")
+    w_name = "weights" if weights is not None else None
+    fast = clean_arrays(columns, numeric=numeric, categorical=["group"], missing=missing)
+    if fast is not None:
+        kept = fast.columns
+        return _finish(response or "y", "group", kept["y"], kept["group"],
+                       kept.get("weights"), w_name, fast.report, fast.row_labels, levels, offset)
+    frame, report = clean_columns(columns, numeric=numeric, categorical=["group"],
+                                  missing=missing)
+    w = frame["weights"].to_numpy(dtype=float) if weights is not None else None
+    return _finish(response or "y", "group", frame["y"].to_numpy(dtype=float), frame["group"],
+                   w, w_name, report, frame.index.to_numpy(), levels, offset)
+
+
+def _finish(
+    response_name: str, factor_name: str, y: np.ndarray, labels: Any, w: np.ndarray | None,
+    w_name: str | None, report: MissingReport, row_labels: np.ndarray,
+    levels: Sequence[Any] | None, offset: float,
+) -> GroupModels:
+    fac = Factor.from_values(labels, name=factor_name, levels=levels)
     if w is not None and np.any(w <= 0):
-        raise DataError(f"weights must be positive; column {w_col!r} has zero or negative values")
-    return GroupModels(response_name, fac, frame[y_col].to_numpy(dtype=float), report,
-                       weights=w, offset=float(offset), row_labels=frame.index.to_numpy())
+        raise DataError(f"weights must be positive; column {w_name!r} has zero or negative values")
+    return GroupModels(response_name, fac, y, report, weights=w, offset=float(offset),
+                       row_labels=row_labels)
 
 
 class GroupModels:
@@ -165,7 +193,7 @@ class GroupModels:
             )
         self.response_name = response_name
         self.factor = factor
-        self.y = y
+        self.y = y.view()  # read-only view: the array passed in keeps its own flags
         self.y.flags.writeable = False
         self.missing = missing
         self.weights = weights
@@ -175,7 +203,8 @@ class GroupModels:
     @cached_property
     def sums(self) -> GroupSums:
         """Group counts, means and within sums of squares (computed once, shared by all models)."""
-        return group_sums(self.factor.codes, self.y, self.factor.n_levels, self.weights)
+        return group_sums(self.factor.codes, self.y, self.factor.n_levels, self.weights,
+                          counts=self.factor.counts)
 
     @property
     def levels(self) -> tuple[str, ...]:

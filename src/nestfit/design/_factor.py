@@ -42,14 +42,22 @@ class Factor:
     name: str
     levels: tuple[str, ...]
     codes: np.ndarray = field(repr=False)
+    _counts: np.ndarray | None = field(default=None, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         codes = np.asarray(self.codes)
         if codes.ndim != 1:
             raise FactorError(f"factor {self.name!r}: codes must be one-dimensional")
-        codes = codes.astype(np.intp, copy=False)
+        # A read-only view: the caller's array keeps its own flags.
+        codes = codes.astype(np.intp, copy=False).view()
         codes.flags.writeable = False
         object.__setattr__(self, "codes", codes)
+        if self._counts is not None:
+            counts = np.asarray(self._counts, dtype=np.intp)
+            if counts.shape != (len(self.levels),):
+                raise FactorError(f"factor {self.name!r}: one count per level is needed")
+            counts.flags.writeable = False
+            object.__setattr__(self, "_counts", counts)
 
     # ------------------------------------------------------------------ build
     @classmethod
@@ -81,13 +89,13 @@ class Factor:
         if isinstance(values, pd.Series) and isinstance(values.dtype, pd.CategoricalDtype):
             values = values.array
         if isinstance(values, pd.Categorical) and levels is None:
-            codes = np.asarray(values.codes, dtype=np.intp)
-            if codes.size and codes.min() < 0:
+            small = np.asarray(values.codes)  # int8/int16/...: cheaper to scan than intp
+            if small.size and small.min() < 0:
                 raise FactorError(
                     f"factor {name!r} has missing labels; drop those rows or give them a level"
                 )
             labels = [str(c) for c in values.categories]
-            return cls._finish(name, labels, codes, drop_unused=True)
+            return cls._finish(name, labels, small.astype(np.intp), drop_unused=True)
         arr = np.asarray(values)
         if arr.ndim != 1:
             raise FactorError(f"factor {name!r} must be one-dimensional, got shape {arr.shape}")
@@ -115,14 +123,15 @@ class Factor:
     def _from_integers(cls, name: str, arr: np.ndarray) -> Factor:
         lo, hi = int(arr.min()), int(arr.max())
         if lo >= 0 and hi < max(arr.size * _DENSE_RANGE_FACTOR, 1024):
-            present = np.bincount(arr.astype(np.intp, copy=False), minlength=hi + 1) > 0
+            tally = np.bincount(arr.astype(np.intp, copy=False), minlength=hi + 1)
+            present = tally > 0
             values = np.flatnonzero(present)
-            if values.size == hi + 1:  # codes are the values themselves
-                codes = arr.astype(np.intp, copy=False)
-            else:
-                lookup = np.cumsum(present) - 1
-                codes = lookup[arr]
-            return cls._finish(name, [str(v) for v in values], codes)
+            if values.size == hi + 1:  # codes are the values themselves; tally is the counts
+                return cls._finish(name, [str(v) for v in values],
+                                   arr.astype(np.intp, copy=False), counts=tally)
+            lookup = np.cumsum(present) - 1
+            return cls._finish(name, [str(v) for v in values], lookup[arr],
+                               counts=tally[values])
         uniq, codes = np.unique(arr, return_inverse=True)
         return cls._finish(name, [str(v) for v in uniq], codes)
 
@@ -150,9 +159,11 @@ class Factor:
 
     @classmethod
     def _finish(
-        cls, name: str, labels: list[str], codes: np.ndarray, *, drop_unused: bool = False
+        cls, name: str, labels: list[str], codes: np.ndarray, *, drop_unused: bool = False,
+        counts: np.ndarray | None = None,
     ) -> Factor:
-        factor = cls(name=name, levels=tuple(labels), codes=np.asarray(codes, dtype=np.intp))
+        factor = cls(name=name, levels=tuple(labels), codes=np.asarray(codes, dtype=np.intp),
+                     _counts=counts)
         counts = factor.counts
         if np.any(counts == 0):
             if drop_unused:
@@ -180,8 +191,13 @@ class Factor:
 
     @property
     def counts(self) -> np.ndarray:
-        """Observations per level, in level order (``n_g``)."""
-        return np.bincount(self.codes, minlength=self.n_levels)
+        """Observations per level, in level order (``n_g``; counted once, read-only)."""
+        if self._counts is None:
+            counts = np.bincount(self.codes, minlength=self.n_levels)
+            counts.flags.writeable = False
+            object.__setattr__(self, "_counts", counts)
+        assert self._counts is not None
+        return self._counts
 
     def index_of(self, level: Any) -> int:
         """Position of a level label; :class:`FactorError` naming the known levels if absent."""

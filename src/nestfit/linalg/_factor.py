@@ -226,7 +226,8 @@ def factorize(x: FloatArray, w: FloatArray | None, rank_tol: float) -> QRFactor:
     sw = np.sqrt(w) if w is not None else np.ones(n)
     xw = x * sw[:, None] if w is not None else x
     scale = column_scales(xw)
-    a_full = xw / scale  # exact: division by powers of two
+    # exact: division by powers of two; Fortran order, LAPACK's own
+    a_full = np.divide(xw, scale, out=np.empty((n, p), order="F"))
     k = min(n, p)
     if p == 0:
         q_all = np.zeros((n, 0))
@@ -243,7 +244,10 @@ def factorize(x: FloatArray, w: FloatArray | None, rank_tol: float) -> QRFactor:
     piv = np.asarray(piv, dtype=np.intp)
     q = q_all[:, :rank]
     r = np.triu(r_all[:rank, :rank])
-    x_scaled = np.ascontiguousarray(x[:, piv[:rank]] / scale[piv[:rank]])
+    # X D^-1 in Fortran order (the refinement kernels read its columns as
+    # contiguous rows of the transpose); unweighted, that is a_full itself.
+    unweighted = a_full if w is None else np.divide(x, scale, out=np.empty((n, p), order="F"))
+    x_scaled = unweighted.T[piv[:rank]].T
     condition = float(np.linalg.cond(r)) if rank else float("nan")
     return QRFactor(
         q=_readonly(q),

@@ -68,6 +68,14 @@ class GroupSums:
         return float(np.sum(np.sort(self.within_ss)))
 
 
+# Rows per block of the passes below: the temporaries of a block (a few float64
+# vectors of this length) stay in cache and the peak memory does not grow with n.
+# A block has at least _ROWS_PER_GROUP rows per group, so that adding up the
+# per-block totals stays cheap beside the pass itself. Common practice, no source.
+_BLOCK_ROWS = 1 << 17
+_ROWS_PER_GROUP = 16
+
+
 def group_sums(
     codes: np.ndarray,
     y: np.ndarray,
@@ -75,6 +83,7 @@ def group_sums(
     weights: np.ndarray | None = None,
     *,
     shift: float | None = None,
+    counts: np.ndarray | None = None,
 ) -> GroupSums:
     """Corrected two-pass group means and within-group sums of squares.
 
@@ -90,6 +99,9 @@ def group_sums(
         Positive finite case weights.
     shift : float, optional
         Constant subtracted from ``y`` before summing; default the mean of ``y``.
+    counts : ndarray of int, shape (k,), optional
+        ``numpy.bincount(codes, minlength=n_groups)`` when already known (e.g.
+        :attr:`Factor.counts`); it is not recounted.
 
     Returns
     -------
@@ -100,36 +112,58 @@ def group_sums(
     With ``d_i = y_i - m_g`` from the first-pass mean, the corrected mean is
     ``m_g + S_g / W_g`` with ``S_g = sum w_i d_i`` and the within sum of squares
     is ``sum w_i d_i^2 - S_g^2 / W_g`` (Chan, Golub & LeVeque 1983, eq. 1.7).
+    Both passes run over blocks of rows, so the memory they need beyond the
+    inputs does not grow with ``n``; the per-group totals of the blocks are added up.
     """
     codes = np.asarray(codes, dtype=np.intp)
     y = np.asarray(y, dtype=np.float64)
     if codes.shape != y.shape or y.ndim != 1:
         raise DataError(f"codes has shape {codes.shape} but y has shape {y.shape}")
-    counts = np.bincount(codes, minlength=n_groups)
-    if counts.size != n_groups or np.any(counts == 0):
+    if counts is None:
+        counts = np.bincount(codes, minlength=n_groups)
+    if counts.shape != (n_groups,) or np.any(counts == 0):
         raise DataError("every group needs at least one observation")
     c = float(np.mean(y)) if shift is None else float(shift)
     if not np.isfinite(c):
         raise DataError("the response has NaN or infinite values")
-    dev = np.subtract(y, c)
-    totals: np.ndarray
-    if weights is None:
-        totals = counts.astype(np.float64)
-        means = np.bincount(codes, weights=dev, minlength=n_groups) / totals
-        gathered = means[codes]
-        np.subtract(dev, gathered, out=dev)
-        del gathered
-        correction = np.bincount(codes, weights=dev, minlength=n_groups)
-        np.multiply(dev, dev, out=dev)
-        sq = np.bincount(codes, weights=dev, minlength=n_groups)
-    else:
-        w = np.asarray(weights, dtype=np.float64)
-        totals = np.bincount(codes, weights=w, minlength=n_groups)
-        means = np.bincount(codes, weights=w * dev, minlength=n_groups) / totals
-        dev -= means[codes]
-        correction = np.bincount(codes, weights=w * dev, minlength=n_groups)
-        sq = np.bincount(codes, weights=w * dev * dev, minlength=n_groups)
+    w = None if weights is None else np.asarray(weights, dtype=np.float64)
+    n = y.size
+    step = max(_BLOCK_ROWS, _ROWS_PER_GROUP * n_groups)
+    totals = (counts.astype(np.float64) if w is None
+              else _block_bincount(codes, w, n_groups, step))
+    first = np.zeros(n_groups)
+    buf = np.empty(min(n, step))
+    for lo in range(0, n, step):
+        hi = min(lo + step, n)
+        d = np.subtract(y[lo:hi], c, out=buf[: hi - lo])
+        if w is not None:
+            d *= w[lo:hi]
+        first += np.bincount(codes[lo:hi], weights=d, minlength=n_groups)
+    means = first / totals
+    correction = np.zeros(n_groups)
+    sq = np.zeros(n_groups)
+    gathered = np.empty_like(buf)
+    for lo in range(0, n, step):
+        hi = min(lo + step, n)
+        cb = codes[lo:hi]
+        d = np.subtract(y[lo:hi], c, out=buf[: hi - lo])
+        d -= np.take(means, cb, out=gathered[: hi - lo])
+        wd = d if w is None else np.multiply(w[lo:hi], d, out=gathered[: hi - lo])
+        correction += np.bincount(cb, weights=wd, minlength=n_groups)
+        if w is None:
+            d *= d
+        else:
+            d *= wd
+        sq += np.bincount(cb, weights=d, minlength=n_groups)
     means = means + correction / totals
     within = np.maximum(sq - correction * correction / totals, 0.0)
     return GroupSums(counts=counts, weight_totals=totals, means=means, within_ss=within,
                      shift=c)
+
+
+def _block_bincount(codes: np.ndarray, w: np.ndarray, n_groups: int, step: int) -> np.ndarray:
+    total = np.zeros(n_groups)
+    for lo in range(0, w.size, step):
+        total += np.bincount(codes[lo : lo + step], weights=w[lo : lo + step],
+                             minlength=n_groups)
+    return total

@@ -143,8 +143,11 @@ def _tree_sum(p: FloatArray) -> tuple[FloatArray, FloatArray]:
 
 
 def _chunk_rows(k: int) -> int:
-    """Rows per chunk so that a chunk of a k-column array holds about 2**20 values."""
-    return max(1, (1 << 20) // max(k, 1))
+    """Rows per chunk so that a chunk of a k-column array holds about 2**16 values.
+
+    Small enough for a chunk and its few temporaries to stay in cache.
+    """
+    return max(1, (1 << 16) // max(k, 1))
 
 
 class ExtendedOperator:
@@ -178,6 +181,9 @@ class ExtendedOperator:
         self.method: Method = DEFAULT_METHOD if method is None else method
         if self.method not in ("longdouble", "compensated"):
             raise ValueError(f"unknown extended-precision method {self.method!r}")
+        # The compensated kernels work on contiguous rows of x' (no copy when x
+        # is in Fortran order, as the factorisation stores it).
+        self._xt = np.ascontiguousarray(x.T) if self.method == "compensated" else x.T
         if self.method == "longdouble" and not LONGDOUBLE_IS_EXTENDED:
             raise ValueError("numpy.longdouble is float64 on this platform")
         self._x_long = None
@@ -194,32 +200,67 @@ class ExtendedOperator:
         the residual of the augmented system ``[I A; A' 0][r; c] = [v; 0]``
         (Björck 1967).
         """
+        return self._residual(u, r, c)[0]
+
+    def residual_split(self, u: FloatArray, c: FloatArray) -> tuple[FloatArray, FloatArray]:
+        """``diag(s) (u - x @ c)`` as a float64 pair ``hi + lo`` from one extended evaluation.
+
+        ``hi`` is the rounded residual (what :meth:`residual` returns with
+        ``r = 0``) and ``lo`` is what :meth:`residual` would return for
+        ``r = hi``, to the same accuracy: the remainder of the extended value,
+        split off by TwoSum instead of recomputed.
+        """
+        return self._residual(u, np.zeros_like(u), c, split=True)
+
+    def _residual(
+        self, u: FloatArray, r: FloatArray, c: FloatArray, *, split: bool = False
+    ) -> tuple[FloatArray, FloatArray]:
         if self._x_long is not None:
             ld = np.longdouble
             t = u.astype(ld) - self._x_long @ c.astype(ld)
             if self._s_long is not None:
                 t = self._s_long * t
-            return np.asarray(t - r.astype(ld), dtype=np.float64)
+            t = t - r.astype(ld)
+            hi = np.asarray(t, dtype=np.float64)
+            lo = np.asarray(t - hi.astype(ld), dtype=np.float64) if split else np.zeros_like(hi)
+            return hi, lo
         # Dot2 (Ogita, Rump & Oishi 2005, Algorithm 5.3) vectorised over rows:
         # products split exactly by TwoProduct, the terms u_i, -x_ij c_j summed by
         # an error-free TwoSum tree, all rounding errors gathered and added last.
-        n, m = u.shape
+        # The work runs on the transposed matrix, chunk by chunk of rows, so that
+        # every tree level combines contiguous vectors that stay in cache.
+        xt = self._xt
+        k, n = xt.shape
+        m = u.shape[1]
         out = np.empty((n, m))
-        step = _chunk_rows(self.x.shape[1] + 1)
-        for lo in range(0, n, step):
-            blk = self.x[lo : lo + step]
-            sl = slice(lo, lo + step)
-            for col in range(m):
-                prod, perr = two_product(blk, -c[None, :, col])
-                hi, err = _tree_sum(np.concatenate([u[sl, col, None], prod], axis=1).T)
-                low = err + perr.sum(axis=1)  # hi + low = u - x c to ~2-fold precision
+        rest = np.zeros((n, m) if split else (0, m))
+        step = _chunk_rows(k + 1)
+        terms = np.empty((k + 1, min(step, n)))
+        for col in range(m):
+            negc = -c[:, col, None]
+            c_hi, c_lo = _split(negc)
+            for start in range(0, n, step):
+                sl = slice(start, start + step)
+                blk = xt[:, sl]
+                width = blk.shape[1]
+                rows = terms[:, :width]
+                rows[0] = u[sl, col]
+                prod = np.multiply(blk, negc, out=rows[1:])
+                x_hi, x_lo = _split(blk)
+                # TwoProduct's error term with the split of -c made once per column
+                perr = x_lo * c_lo - (((prod - x_hi * c_hi) - x_lo * c_hi) - x_hi * c_lo)
+                hi, err = _tree_sum(rows)
+                low = err + perr.sum(axis=0)  # hi + low = u - x c to ~2-fold precision
                 if self.row_scale is not None:
                     srow = self.row_scale[sl]
                     hi, e_hi = two_product(srow, hi)
                     low = e_hi + srow * low
                 z, ez = two_sum(hi, -r[sl, col])
-                out[sl, col] = z + (ez + low)
-        return out
+                if split:
+                    out[sl, col], rest[sl, col] = two_sum(z, ez + low)
+                else:
+                    out[sl, col] = z + (ez + low)
+        return out, rest
 
     def rmatmul(self, r: FloatArray) -> FloatArray:
         """Return ``A.T @ r = x.T @ (diag(s) r)`` (shape (k, m)) for ``r`` of shape (n, m)."""
@@ -234,16 +275,27 @@ class ExtendedOperator:
         return self._rmatmul_compensated(p) + self.x.T @ e
 
     def _rmatmul_compensated(self, r: FloatArray) -> FloatArray:
-        n, k = self.x.shape
+        # Dot2 again, over the rows: per chunk the products x_ij r_i are split by
+        # TwoProduct and added by TwoSum into running sums (one per column and
+        # position in the chunk, the recursive order of Ogita, Rump & Oishi 2005,
+        # Algorithm 4.4); the running sums are then added by an error-free tree.
+        xt = self._xt
+        k, n = xt.shape
         m = r.shape[1]
-        total = np.zeros((k, m))
-        errors = np.zeros((k, m))
-        step = _chunk_rows(k)
-        for lo in range(0, n, step):
-            blk = self.x[lo : lo + step]
-            for col in range(m):
-                prod, perr = two_product(blk, r[lo : lo + step, col, None])
-                s, err = _tree_sum(prod)
-                total[:, col], e2 = two_sum(total[:, col], s)
-                errors[:, col] += err + perr.sum(axis=0) + e2
-        return total + errors
+        out = np.empty((k, m))
+        step = max(1, min(_chunk_rows(k), n))
+        for col in range(m):
+            acc = np.zeros((k, step))
+            errors = np.zeros((k, step))
+            for lo in range(0, n, step):
+                sl = slice(lo, lo + step)
+                blk = xt[:, sl]
+                width = blk.shape[1]
+                prod, perr = two_product(blk, r[sl, col])
+                a = acc[:, :width]
+                s, e = two_sum(a, prod)
+                errors[:, :width] += e + perr
+                acc[:, :width] = s
+            total, err = _tree_sum(acc.T)
+            out[:, col] = total + (err + errors.sum(axis=1))
+        return out

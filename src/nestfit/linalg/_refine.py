@@ -28,6 +28,23 @@ limits plain QR and plain (solution-only) refinement when the residual is not
 small; each step contracts the error by about ``cond(A) * eps`` (Björck 1996,
 sec. 2.9.3; Higham 2002, sec. 20.5).
 
+Cost. The first step's ``f`` is the remainder of the extended-precision
+residual of the plain QR solution, split off from that same evaluation
+(:meth:`ExtendedOperator.residual_split`), so a step costs one extended
+product with ``A'`` and, from the second step on, one with ``A``. When the
+condition number is known, the loop also stops after a step whose correction,
+shrunk by a generous bound on the contraction factor,
+
+    rho = n * k * cond(A) * eps    (a project rule: the ``cond(A) * eps`` above
+                                   with a factor for the sizes, k columns),
+
+could no longer move any coefficient by half a unit in its last place nor the
+residual by half an ulp in norm: ``rho * max|dc| <= eps/2 * min_i |c_i|`` and
+``rho * ||dr|| <= eps/2 * ||r||``. The next step would then change nothing
+that float64 can hold. With ``rho >= 1/2`` this test is never applied, nor
+with the long double scheme, whose residuals (unit roundoff 2**-64) leave an
+error floor of their own that the contraction bound does not cover.
+
 Section, algorithm and page numbers in the references of this module are cited
 from memory.
 """
@@ -43,6 +60,8 @@ from nestfit.linalg._precision import ExtendedOperator, Method
 __all__ = ["Refiner"]
 
 FloatArray = NDArray[np.float64]
+
+_EPS = float(np.finfo(np.float64).eps)
 
 
 def _solve_r(r: FloatArray, b: FloatArray, *, transpose: bool = False) -> FloatArray:
@@ -68,6 +87,9 @@ class Refiner:
     method : {"longdouble", "compensated"}, optional
         Extended-precision scheme (default: the platform's, see
         :mod:`nestfit.linalg._precision`).
+    condition : float, optional
+        2-norm condition number of ``A``; when given, refinement may stop
+        as soon as a further step cannot change the result (module notes).
 
     Notes
     -----
@@ -82,9 +104,14 @@ class Refiner:
         q: FloatArray,
         r: FloatArray,
         method: Method | None = None,
+        condition: float | None = None,
     ) -> None:
         self.x, self.row_scale, self.q, self.r = x, row_scale, q, r
         self.op = ExtendedOperator(x, row_scale, method)
+        self.contraction: float | None = None
+        if condition is not None and np.isfinite(condition) and self.op.method == "compensated":
+            rho = x.shape[0] * max(x.shape[1], 1) * float(condition) * _EPS
+            self.contraction = rho if rho < 0.5 else None
 
     @property
     def k(self) -> int:
@@ -101,7 +128,8 @@ class Refiner:
         Plain QR ``c = R^(-1) Q' v`` with ``residual = v - A c`` in extended
         precision, then up to ``refine`` steps of augmented-system refinement
         (module notes); the loop stops early when a step leaves both ``c`` and
-        the residual unchanged in float64.
+        the residual unchanged in float64, or (condition known) when the next
+        step could not change them (module notes).
 
         Returns
         -------
@@ -116,10 +144,11 @@ class Refiner:
             return np.zeros((0, m)), self.weighted(u).copy(), 0
         q, r = self.q, self.r
         c = _solve_r(r, q.T @ self.weighted(u))
-        res = self.op.residual(u, np.zeros_like(u), c)
+        res, f = self.op.residual_split(u, c)
         steps = 0
         for _ in range(refine):
-            f = self.op.residual(u, res, c)
+            if steps:
+                f = self.op.residual(u, res, c)
             g = -self.op.rmatmul(res)
             h = _solve_r(r, g, transpose=True)
             f1 = q.T @ f
@@ -127,14 +156,26 @@ class Refiner:
             f1b = q.T @ f2  # second orthogonalisation pass (twice is enough)
             f2 = f2 - q @ f1b
             f1 = f1 + f1b
-            new_res = res + (q @ h + f2)
-            new_c = c + _solve_r(r, f1 - h)
+            dr = q @ h + f2
+            dc = _solve_r(r, f1 - h)
+            new_res = res + dr
+            new_c = c + dc
             steps += 1
             unchanged = np.array_equal(new_c, c) and np.array_equal(new_res, res)
             c, res = new_c, new_res
-            if unchanged:
+            if unchanged or self._settled(dc, dr, c, res):
                 break
         return c, res, steps
+
+    def _settled(self, dc: FloatArray, dr: FloatArray, c: FloatArray, res: FloatArray) -> bool:
+        """Whether a next step, ``contraction`` times this one, is below half an ulp."""
+        rho = self.contraction
+        if rho is None:
+            return False
+        half_ulp = 0.5 * _EPS
+        coef_ok = rho * np.max(np.abs(dc), axis=0) <= half_ulp * np.min(np.abs(c), axis=0)
+        res_ok = rho * np.linalg.norm(dr, axis=0) <= half_ulp * np.linalg.norm(res, axis=0)
+        return bool(np.all(coef_ok) and np.all(res_ok))
 
     def polish(
         self, u: FloatArray, residual: FloatArray, c: FloatArray, refine: int

@@ -123,7 +123,8 @@ def solve_response(
     """Solve ``min ||sqrt(w) (y - X b)||`` on the factored design (module notes)."""
     n = x.shape[0]
     sw = factor.sqrt_weights
-    refiner = Refiner(factor.x_scaled, sw if factor.weighted else None, factor.q, factor.r, method)
+    refiner = Refiner(factor.x_scaled, sw if factor.weighted else None, factor.q, factor.r, method,
+                      condition=factor.condition)
     y2 = y[:, None]
     centered = factor.rank > 0 and float(
         factor.relative_distance(np.ones(n))[0]
@@ -132,9 +133,9 @@ def solve_response(
         c_all, res_all, steps = refiner.solve(y2, refine)
         return ResponseSolution(c_all[:, 0], res_all[:, 0], steps, False, 0.0, False)
 
-    wv = w if w is not None else np.ones(n)
     # weighted mean from correctly rounded sums; any m is valid since b is linear in y
-    offset = accurate_sum(wv * y) / accurate_sum(wv)
+    total_w = accurate_sum(w) if w is not None else float(n)
+    offset = accurate_sum(w * y if w is not None else y) / total_w
     uc = y - offset  # exact where y_i is within a factor 2 of m (Sterbenz)
     c1 = constant_coefficients(factor, x)
     if c1 is None:
@@ -144,7 +145,7 @@ def solve_response(
         c_all, res_all, steps = refiner.solve(uc[:, None], refine)
     res_w = res_all[:, :1]
     c = c_all[:, :1] + offset * c1[:, None]
-    spread = math.sqrt(accurate_sum_of_squares(sw * uc) / accurate_sum(wv))
+    spread = math.sqrt(accurate_sum_of_squares(sw * uc if w is not None else uc) / total_w)
     c_centred = c_all[:, :1]
     # digits lost by cancellation in c = c_centred + m c_1: log2 |c_centred| / |c|
     cancels = bool(np.any(np.abs(c_centred) > 2.0 * np.abs(c)))
