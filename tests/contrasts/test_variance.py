@@ -214,3 +214,24 @@ def test_bad_variance_choices() -> None:
     flat = pd.DataFrame({"y": [1.0, 1.0, 2.0, 2.0], "g": ["A", "A", "B", "B"]})
     with pytest.raises(ContrastError, match=r"no residual degrees|no error estimate"):
         nc.cell_means(_separate(flat), variance="welch")
+
+
+def test_adjusted_means_of_a_large_formula_fit_build_no_n_by_n_matrix() -> None:
+    # The null space for estimability comes from the n x p design through its triangular
+    # QR factor; an SVD of the design with full matrices would allocate n x n (28.8 GB here).
+    import tracemalloc
+
+    rng = np.random.default_rng(13)
+    n = 60_000
+    data = pd.DataFrame({"g": rng.integers(0, 8, n).astype(str), "x": rng.normal(size=n)})
+    data["y"] = rng.normal(size=n) + data["x"]
+    fit = nestfit.fit("y ~ C(g) + x", data)
+    design_bytes = n * fit.design.n_columns * 8
+    tracemalloc.start()
+    try:
+        means = nc.cell_means(fit, "g", data, variance="HC3")
+        _, peak = tracemalloc.get_traced_memory()
+    finally:
+        tracemalloc.stop()
+    assert peak < 12 * design_bytes, peak / design_bytes
+    assert means.estimate('"1" - "0"').df == fit.residual_df

@@ -18,7 +18,8 @@ estimate is ``c b`` and variance ``c' Cov(b) c``. ``M`` is
 A linear function ``c b`` is estimable when ``c`` lies in the row space of
 the design (Searle, *Linear Models*, 1971, sec. 5.4, from memory): checked
 as ``|N' (c / d)| <= 1e-8 |c / d|`` for ``N`` an orthonormal basis of the
-null space of the column-scaled design (``d`` the column norms).
+null space of the column-scaled design (``d`` the column norms), of the
+fit's rank (:func:`nestfit.linalg.null_space`).
 """
 
 from __future__ import annotations
@@ -39,16 +40,15 @@ from nestfit.contrasts._variance import VarianceSource, retained_covariance, var
 from nestfit.design._design import ColumnInfo, Design
 from nestfit.design._factor import Factor
 from nestfit.errors import ColumnError, ContrastError, DataError, ModelError
+from nestfit.linalg._nullspace import ESTIMABLE_TOL, null_space
 
 if TYPE_CHECKING:
     from nestfit.contrasts._builtin import ContrastFamily
     from nestfit.contrasts._estimate import ContrastEstimate
     from nestfit.contrasts._family import EstimatedFamily
 
-__all__ = ["CellMeans", "cell_means"]
+__all__ = ["CellMeans", "assemble_means", "cell_means"]
 
-# Relative residual above which c is outside the design's row space. Common practice, no source.
-ESTIMABLE_TOL = 1e-8
 # A contrast whose coefficient vector is this small relative to |w| |M| is identically zero.
 ZERO_TOL = 1e-10
 # A factor column varies within a level when its range there exceeds this times its scale.
@@ -100,6 +100,7 @@ class CellMeans:
     _source: VarianceSource | None = field(default=None, repr=False)
     _null: np.ndarray = field(default_factory=lambda: np.zeros((0, 0)), repr=False)
     _scales: np.ndarray = field(default_factory=lambda: np.zeros(0), repr=False)
+    _what: str = field(default="", repr=False)
 
     # ------------------------------------------------------------ queries
     @property
@@ -127,6 +128,8 @@ class CellMeans:
     def description(self) -> str:
         """What the means are, in words."""
         errors = "" if self.variance == "pooled" else f"; standard errors: {self.source.name}"
+        if self._what:
+            return f"{self._what} in model {self.fit.name!r}{errors}"
         if self.adjusted:
             return (f"adjusted means of {self.factor!r} in model {self.fit.name!r} (covariates at "
                     f"their means over the observations used){errors}")
@@ -311,21 +314,34 @@ def cell_means(fit: Fit, factor: str | None = None, data: Any = None, *,
                 "factor='g', data=frame)")
         fac, mapping = _adjusted_mapping(fit, factor, data)
         adjusted, rows = True, fit.design.to_dense()
-    scales = np.sqrt(np.sum(rows * rows, axis=0))
-    scales[scales == 0] = 1.0
-    null = scipy.linalg.null_space(rows / scales)
+    return assemble_means(fit, fac.name, fac.levels, fac.counts, mapping, rows=rows,
+                          adjusted=adjusted, variance=variance)
+
+
+def assemble_means(fit: Fit, name: str, levels: tuple[str, ...], counts: np.ndarray,
+                   mapping: np.ndarray, *, rows: np.ndarray, adjusted: bool, variance: str,
+                   what: str = "") -> CellMeans:
+    """A :class:`CellMeans` from the map ``mu = M b`` (``mapping``) of a fit.
+
+    ``rows`` span the design's row space (the coding matrix of a grouped fit,
+    the dense design otherwise); contrasts are estimable when their
+    coefficient vector lies in it. ``what`` replaces the default description
+    of the means (e.g. marginal means of a factorial model).
+    """
+    mapping = np.array(mapping, dtype=float)
+    space = null_space(rows, fit.rank)
+    null, scales = np.array(space.basis), np.array(space.scale)
     keep = np.array([n not in set(fit.aliased) for n in fit.design.column_names])
     source = variance_source(fit, variance, keep)
     b = np.where(keep, np.nan_to_num(np.asarray(fit.coefficients)), 0.0)
     estimates = mapping @ b
     covariance = mapping @ source.coefficient_covariance @ mapping.T
     covariance = (covariance + covariance.T) / 2.0
-    for arr in (mapping, estimates, covariance, null, scales):
+    counts = np.array(counts)
+    for arr in (mapping, estimates, covariance, null, scales, counts):
         arr.flags.writeable = False
-    counts = fac.counts
-    counts.flags.writeable = False
-    return CellMeans(fit, fac.name, fac.levels, counts, mapping, estimates, covariance,
-                     adjusted, source.key, source, null, scales)
+    return CellMeans(fit, name, tuple(levels), counts, mapping, estimates, covariance,
+                     adjusted, source.key, source, null, scales, what)
 
 
 def _term_names(term: str) -> set[str]:

@@ -17,6 +17,9 @@ sequential_ss, SequentialSS
     Extra sums of squares of a chain of prefix models from one factorisation.
 group_sums, GroupSums
     Per-group totals for one-factor designs (:mod:`._groups`).
+null_space, NullSpace
+    Null space of a design of known rank, and which ``c' b`` are estimable
+    (:mod:`._nullspace`).
 LONGDOUBLE_IS_EXTENDED
     Whether ``least_squares(..., extended="longdouble")`` is available here.
 """
@@ -26,6 +29,7 @@ from __future__ import annotations
 from nestfit.linalg._factor import QRFactor, qr_factor
 from nestfit.linalg._groups import GroupSums, group_sums
 from nestfit.linalg._nested import SequentialSS, column_space_residual, is_nested, sequential_ss
+from nestfit.linalg._nullspace import NullSpace, null_space
 from nestfit.linalg._precision import LONGDOUBLE_IS_EXTENDED
 from nestfit.linalg._qr import LeastSquares, least_squares
 
@@ -33,12 +37,14 @@ __all__ = [
     "LONGDOUBLE_IS_EXTENDED",
     "GroupSums",
     "LeastSquares",
+    "NullSpace",
     "QRFactor",
     "SequentialSS",
     "column_space_residual",
     "group_sums",
     "is_nested",
     "least_squares",
+    "null_space",
     "qr_factor",
     "sequential_ss",
 ]

@@ -20,8 +20,8 @@ import pandas as pd
 
 from nestfit.design._formula import _formula_names
 from nestfit.errors import ColumnError, DataError, FactorError, ModelError
+from nestfit.linalg._nullspace import null_space
 from nestfit.tables._cells import cell_label, level_codes
-from nestfit.tables._estimable import null_space
 from nestfit.tables._means import WEIGHTINGS, EstimatedMeans
 from nestfit.tables._terms import FactorInfo
 

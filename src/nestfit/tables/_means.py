@@ -44,7 +44,7 @@ import pandas as pd
 from scipy import stats
 
 from nestfit.errors import DataError
-from nestfit.tables._estimable import NullSpace
+from nestfit.linalg._nullspace import NullSpace
 
 if TYPE_CHECKING:
     from nestfit.tables._mean_contrast import MeanContrast

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.linalg
 
-__all__ = ["NullSpace", "null_space"]
+__all__ = ["ESTIMABLE_TOL", "NullSpace", "null_space"]
 
 # Relative size of the component of a (scaled) coefficient-weight vector in the
 # null space of the design above which the function is not estimable.
@@ -48,20 +48,22 @@ class NullSpace:
 
 
 def null_space(X: np.ndarray, rank: int) -> NullSpace:
-    """Null space of ``X`` given its numerical rank (from the fitter).
+    """Null space of ``X`` (``n x p``) given its numerical rank (from the fitter).
 
-    The columns are scaled to unit norm, the triangular factor of a QR
+    The columns are scaled to unit norm, the triangular factor ``R`` of a QR
     decomposition is formed (never ``X'X``), and the right singular vectors
-    of that factor belonging to its ``p - rank`` smallest singular values span
-    the null space (Golub & Van Loan, *Matrix Computations*, 4th ed., 2013,
-    sec. 5.4, from memory).
+    of its leading ``min(n, p) x p`` block belonging to the ``p - rank``
+    smallest singular values span the null space (Golub & Van Loan, *Matrix
+    Computations*, 4th ed., 2013, sec. 5.4, from memory). Work and memory are
+    ``O(n p)`` beyond the input: no ``n x n`` factor is formed (the SVD of
+    ``X`` itself with full matrices would need one).
     """
     x = np.asarray(X, dtype=np.float64)
-    p = x.shape[1]
+    n, p = x.shape
     scale = np.linalg.norm(x, axis=0)
     scale[scale == 0] = 1.0
     if rank >= p:
         return NullSpace(np.zeros((p, 0)), scale)
-    r = scipy.linalg.qr(x / scale, mode="r", check_finite=False)[0]
+    r = scipy.linalg.qr(x / scale, mode="r", check_finite=False)[0][: min(n, p)]
     _, _, vt = np.linalg.svd(r, full_matrices=True)  # vt is p x p
     return NullSpace(np.ascontiguousarray(vt[rank:].T), scale)
