@@ -48,3 +48,19 @@ def test_tables_in_the_guide(namespace: dict) -> None:
         assert printed in text
         digits = len(printed.split(".")[1])
         assert abs(value - float(printed)) <= 0.51 * 10.0**-digits, (printed, value)
+
+
+def test_level_means_claims_in_the_guide(namespace: dict) -> None:
+    # The guide says: equal.level_means() feeds the contrast families, and the joint test of
+    # all pairs of equally weighted marginal means is the each-last F of that factor.
+    from nestfit import contrasts as nc
+
+    models = namespace["models"]
+    text = DOC.read_text(encoding="utf-8")
+    assert 'equal.level_means().family(nc.all_pairs()).adjust("holm")' in text
+    equal = models.marginal_means("variety")
+    family = equal.level_means().family(nc.all_pairs())
+    result = family.adjust("holm")
+    assert len(result.rows) == len(equal.labels) * (len(equal.labels) - 1) // 2
+    each_last = models.table("each-last").row("C(variety)")
+    assert abs(family.joint_test().steps[0].f - each_last.f) <= 1e-9 * each_last.f

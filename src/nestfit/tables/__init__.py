@@ -22,7 +22,9 @@ EstimatedMeans, MeanContrast, WEIGHTINGS
     Cell and marginal (adjusted) means with their covariance and the map
     ``M`` from coefficients to means; contrasts and interaction contrasts.
 
-For contrast families built elsewhere: a contrast ``w`` of
+For contrast families: ``means.level_means()`` gives the means as
+:class:`nestfit.contrasts.CellMeans` (every family and multiplicity method of
+:mod:`nestfit.contrasts`). Built elsewhere: a contrast ``w`` of
 ``EstimatedMeans`` is the coefficient function ``c = w @ means.coefficient_map``
 with estimate ``w @ means.estimates`` and variance ``w @ means.covariance @ w``
 on ``means.df`` residual degrees of freedom.

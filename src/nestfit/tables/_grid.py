@@ -135,7 +135,7 @@ def _finish(models: FactorialModels, kind: str, factors: tuple[FactorInfo, ...],
         cell_counts=counts, counts=used, estimable=ok, df=fit.residual_df, weighting=weighting,
         at=MappingProxyType(dict(values)), cell_factors=tuple(f.name for f in cat),
         _coefficients=b, _coef_cov=cov, _null=null,
-        _undefined=np.asarray(forced_out, dtype=bool),
+        _undefined=np.asarray(forced_out, dtype=bool), _fit=fit,
     )
 
 

@@ -47,6 +47,8 @@ from nestfit.errors import DataError
 from nestfit.linalg._nullspace import NullSpace
 
 if TYPE_CHECKING:
+    from nestfit._fit import Fit
+    from nestfit.contrasts import CellMeans
     from nestfit.tables._mean_contrast import MeanContrast
 
 __all__ = ["WEIGHTINGS", "EstimatedMeans"]
@@ -126,6 +128,7 @@ class EstimatedMeans:
     _coef_cov: np.ndarray = field(repr=False, default_factory=lambda: np.empty((0, 0)))
     _null: NullSpace | None = field(repr=False, default=None)
     _undefined: np.ndarray = field(repr=False, default_factory=lambda: np.zeros(0, dtype=bool))
+    _fit: Fit | None = field(repr=False, default=None)
 
     @property
     def averaged_over(self) -> tuple[str, ...]:
@@ -191,6 +194,60 @@ class EstimatedMeans:
 
         w, auto = interaction_weights(self, spec)
         return mean_contrast(self, w, label=label or auto, level=level)
+
+    def level_means(self, *, variance: str = "pooled") -> CellMeans:
+        """These means as the level means of :mod:`nestfit.contrasts`, for contrast families.
+
+        ``models.marginal_means("a").level_means().family(nc.all_pairs())
+        .adjust("holm")`` gives every multiplicity method of the contrasts
+        package on factorial (or covariate-adjusted) means; each contrast ``w``
+        is the coefficient function ``c = w' M`` of the full model, as in
+        :meth:`contrast`. Means of one factor are named by their level, cell
+        means by their labels (``"a=1, b=2"``; quote such names inside
+        contrast expressions, or use the built-in families).
+
+        Parameters
+        ----------
+        variance : {"pooled", "HC0", "HC1", "HC2", "HC3"}
+            Standard errors from the residual mean square (default) or a
+            heteroscedasticity-consistent sandwich covariance
+            (:mod:`nestfit.contrasts._variance`). Welch-type errors need a
+            one-factor group model and are refused here.
+
+        Returns
+        -------
+        nestfit.contrasts.CellMeans
+
+        Raises
+        ------
+        ContrastError
+            A mean that is not estimable (it needs empty cells, named), or a
+            ``variance`` this fit does not allow.
+        """
+        from nestfit.contrasts._cellmeans import assemble_means
+        from nestfit.errors import ContrastError
+
+        if self._fit is None:  # pragma: no cover - every EstimatedMeans is built with its fit
+            raise ContrastError("these means do not record their fit")
+        bad = [lab for lab, ok in zip(self.labels, self.estimable) if not ok]
+        if bad:
+            raise ContrastError(
+                f"the {self.kind} means {', '.join(map(repr, bad[:5]))} of model {self.model!r} "
+                "are not estimable (they need cells with no observations), so a contrast family "
+                "over all the means cannot be formed; use marginal means of fewer factors, or "
+                "estimate the estimable contrasts one at a time with .contrast()")
+        names = tuple(lv[0] for lv in self.levels) if len(self.factors) == 1 else self.labels
+        what = ("cell means of " if self.kind == "cell" else
+                "adjusted means of " if self.at else "marginal means of ") + ", ".join(
+                    map(repr, self.factors))
+        if self.averaged_over:
+            what += f" ({self.weighting} weights over {', '.join(self.averaged_over)})"
+        if self.at:
+            what += " at " + ", ".join(f"{k} = {v:.6g}" for k, v in self.at.items())
+        return assemble_means(self._fit, ", ".join(self.factors), names, self.counts,
+                              np.asarray(self.coefficient_map), rows=self._fit.design.to_dense(),
+                              adjusted=bool(self.at) or bool(self.averaged_over),
+                              variance=variance, what=what)
 
     # ------------------------------------------------------------ conversion
     def conf_int(self, level: float = 0.95) -> pd.DataFrame:
