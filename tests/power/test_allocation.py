@@ -223,3 +223,27 @@ def test_bad_search_settings_with_allocation() -> None:
             0.8, allocation=[1, 3])
     with pytest.raises(DataError, match="target power must be between 0 and 1"):
         plan.group_size(1.0, allocation=[2, 1, 1])
+
+
+def test_pooled_comparison_with_dipping_power_returns_the_smallest_m() -> None:
+    # Larger model "A B | C" pools levels with different means, ratios not whole numbers:
+    # rounding to whole observations makes power dip between neighbouring m, so bisection
+    # alone can stop above the smallest m. group_size scans below it (brute force here).
+    from nestfit.power._inputs import allocated_sizes, read_allocation
+    from nestfit.power._search import first_meeting
+
+    plan = plan_comparison({"A": -2.37, "B": 1.23, "C": 0.34}, 1.5,
+                           smaller="A B C", larger="A B | C")
+    ratios = (1.81, 2.82, 1.09)
+    q = read_allocation(ratios, plan.levels)  # r_i / min(r), as group_size uses them
+    powers = [math.nan] + [plan.power(allocated_sizes(m, q)).power for m in range(1, 260)]
+    assert any(b < a for a, b in zip(powers[1:], powers[2:]))  # power does dip here
+    bisection_alone_misses = 0
+    for target in (0.5, 0.8, 0.9, 0.9195, 0.9414, 0.9585, 0.9706):
+        brute = next(m for m in range(1, 260) if powers[m] >= target)
+        got = plan.group_size(target, allocation=ratios)
+        assert got.n == brute, target
+        assert got.result.power >= target and (got.n == 1 or got.power_below < target)
+        bisection_alone_misses += first_meeting(lambda m, t=target: powers[m] >= t, 1,
+                                                259) != brute
+    assert bisection_alone_misses >= 1

@@ -246,11 +246,12 @@ class PowerPlan:
         at ``m - 1``. It is the smallest such ``m`` whenever power is non-decreasing
         in ``m``: with equal sizes or whole-number ratios ``r_i / min(r)`` (the sizes
         are then exactly proportional to ``m``, and so is ``lambda``), and for
-        contrasts and equal vs separate means with any ratios (``|delta|``,
-        ``lambda`` and the error df never fall when a group grows). For a
-        comparison whose larger model pools levels, ``lambda`` depends on the
-        shares within pooled blocks, and rounding can make power dip slightly
-        from one ``m`` to the next; a smaller ``m`` may then already reach the target.
+        contrasts and comparisons against separate means with any ratios
+        (``|delta|``, ``lambda`` and the error df never fall when a group grows).
+        For a comparison whose larger model pools levels, ``lambda`` depends on
+        the shares within pooled blocks, and rounding can make power dip slightly
+        from one ``m`` to the next; there every smaller ``m`` is scanned too (up
+        to 20 000), so the answer is still the smallest reaching the target.
 
         Plans from Cohen's f (:func:`plan_effect_size`) refuse unequal ratios:
         ``f`` weights each mean by its share ``n_i / N``, so a given ``f`` is tied

@@ -3,7 +3,11 @@
 Equal sizes are ``m`` per level; an allocation ``r`` gives ``n_i = ceil(m * r_i / min(r))``
 (:func:`nestfit.power._inputs.allocated_sizes`). Either way every ``n_i`` is
 non-decreasing in ``m``, and :func:`first_meeting` finds the crossing by doubling
-``m`` and then bisecting.
+``m`` and then bisecting. Power itself can still dip between neighbouring ``m`` for
+a comparison whose larger model pools levels with different means, under ratios
+that are not whole numbers (rounding changes the shares within a pooled block);
+there the multipliers below the bisection's answer are scanned as well (up to
+``SCAN_LIMIT`` of them), so the answer is the smallest ``m`` reaching the target.
 """
 
 from __future__ import annotations
@@ -13,7 +17,7 @@ from typing import TYPE_CHECKING, Any
 
 from nestfit.checks._result import check_alpha
 from nestfit.errors import DataError
-from nestfit.power._inputs import allocated_sizes, is_count, read_allocation
+from nestfit.power._inputs import ROUNDING_TOLERANCE, allocated_sizes, is_count, read_allocation
 from nestfit.power._results import GroupSize, PowerResult
 
 if TYPE_CHECKING:
@@ -27,6 +31,27 @@ EFFECT_SIZE_ALLOCATION = (
     "under different shares, and a given f holds only at the shares it was worked out for. "
     "Give the assumed means and sigma (plan_comparison) to plan unequal group sizes"
 )
+
+
+#: Largest number of smaller multipliers checked when power may dip between neighbours.
+SCAN_LIMIT = 20_000
+
+
+def _always_rising(plan: PowerPlan, ratios: tuple[float, ...] | None) -> bool:
+    """Whether power cannot fall as ``m`` grows (so the bisection's answer is the smallest).
+
+    True for equal sizes and whole-number ratios (sizes proportional to ``m``), for
+    contrasts (``|delta|`` and the error df grow with every ``n_i``), and for comparisons
+    whose larger model is separate means: there ``lambda = sum_i n_i (mu_i - m_b(i))^2``
+    with ``m_b`` the ``n``-weighted block means of the smaller model, whose derivative in
+    ``n_i`` is ``(mu_i - m_b(i))^2 >= 0`` (the weighted mean minimises the sum).
+    """
+    if ratios is None or plan.kind != "comparison":
+        return True
+    low = min(ratios)
+    if all(abs(r / low - round(r / low)) <= ROUNDING_TOLERANCE * r / low for r in ratios):
+        return True
+    return plan.larger is not None and plan.larger.n_blocks == plan.n_levels
 
 
 def first_meeting(meets: Callable[[int], bool], start: int, stop: int) -> int | None:
@@ -97,6 +122,13 @@ def solve_group_size(plan: PowerPlan, target: float, allocation: Any, max_n: Any
             f"power {target:g} is not reached with {where} (power there {top.power:.4g}); "
             "the assumed effect is too small"
         )
+    if m > start and not _always_rising(plan, ratios):
+        # Power may dip between neighbouring m here (module notes): the bisection's m meets
+        # the target, but a smaller one may too. Scan up to it (each step is one power
+        # evaluation; the scan is capped, and the docs say what is then guaranteed).
+        first = next((j for j in range(max(start, m - SCAN_LIMIT), m)
+                      if power_at(j).power >= target), m)
+        m = first
     below = power_at(m - 1) if m > start else None
     return GroupSize(m, float(target), power_at(m), None if below is None else below.power,
                      allocation=ratios, levels=plan.levels,
