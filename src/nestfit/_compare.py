@@ -29,6 +29,7 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
+from nestfit._display import html_for
 from nestfit._fit import Fit
 from nestfit.errors import NotNestedError
 from nestfit.linalg import is_nested
@@ -172,10 +173,8 @@ class Comparison:
     def _repr_pretty_(self, p: Any, cycle: bool) -> None:  # IPython
         p.text(str(self))
 
-    def _repr_html_(self) -> str:  # Jupyter
-        from nestfit.report._repr import comparison_html
-
-        return comparison_html(self)
+    def _repr_html_(self) -> str | None:  # Jupyter (renderer registered by nestfit.report)
+        return html_for("comparison", self)
 
 
 def _finite_or_none(x: float) -> float | None:

@@ -14,6 +14,7 @@ import pandas as pd
 from scipy import stats
 
 from nestfit._data import MissingReport
+from nestfit._display import html_for
 from nestfit.design._design import Design
 from nestfit.errors import (
     DataError,
@@ -253,10 +254,8 @@ class Fit:
     def _repr_pretty_(self, p: Any, cycle: bool) -> None:  # IPython
         p.text(str(self))
 
-    def _repr_html_(self) -> str:  # Jupyter
-        from nestfit.report._repr import fit_html
-
-        return fit_html(self)
+    def _repr_html_(self) -> str | None:  # Jupyter (renderer registered by nestfit.report)
+        return html_for("fit", self)
 
 
 def _none_if_nan(x: float) -> float | None:

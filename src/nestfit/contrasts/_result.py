@@ -9,6 +9,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 import pandas as pd
 
+from nestfit._display import html_for
 from nestfit.errors import DataError
 
 if TYPE_CHECKING:
@@ -199,10 +200,8 @@ class FamilyResult:
     def _repr_pretty_(self, p: Any, cycle: bool) -> None:  # IPython
         p.text(str(self))
 
-    def _repr_html_(self) -> str:  # Jupyter; the renderer is loaded only when asked for
-        from nestfit.report._repr import family_html
-
-        return family_html(self)
+    def _repr_html_(self) -> str | None:  # Jupyter (renderer registered by nestfit.report)
+        return html_for("family", self)
 
 
 def check_alpha(alpha: Any) -> float:

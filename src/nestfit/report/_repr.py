@@ -1,14 +1,17 @@
 """HTML for notebooks: ``_repr_html_`` of fits, comparisons and contrast family results.
 
 Each function takes a result object and returns an escaped HTML fragment (a
-table of our own layout); the result classes attach them as
-``def _repr_html_(self): return comparison_html(self)``.
+table of our own layout). They are registered with :mod:`nestfit._display`
+when this module is imported (``import nestfit`` imports it), and the result
+classes' ``_repr_html_`` looks them up there, so the statistics floor never
+imports the report floor.
 """
 
 from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from nestfit._display import register_html
 from nestfit.report._document import Block, Code, Note, Paragraph, Table
 from nestfit.report._format import num, pval, weight_text
 from nestfit.report._to_html import render_html_fragment
@@ -75,3 +78,8 @@ def family_html(result: FamilyResult) -> str:
         *(Note((n,)) for n in result.notes),
     ]
     return render_html_fragment(blocks, "Contrast family")
+
+
+register_html("fit", fit_html)
+register_html("comparison", comparison_html)
+register_html("family", family_html)
