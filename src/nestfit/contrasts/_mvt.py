@@ -106,6 +106,7 @@ class MaxT:
         eig = np.linalg.eigvalsh(corr)
         self.rank = int(np.sum(eig > SINGULAR_TOL * m))
         self.seeds = [int(s) for s in rng.integers(0, 2**63 - 1, size=replicates)]
+        self._memo: dict[float, tuple[float, float]] = {}
         if backend not in ("auto", "scipy", "conditioning"):
             raise ContrastError(f"backend must be 'auto', 'scipy' or 'conditioning', got "
                                 f"{backend!r}")
@@ -123,24 +124,37 @@ class MaxT:
 
     # ------------------------------------------------------------------ public
     def cdf(self, x: np.ndarray | float) -> tuple[np.ndarray, np.ndarray]:
-        """``(P(max <= x), error)`` for each threshold in ``x``."""
+        """``(P(max <= x), error)`` for each threshold in ``x``.
+
+        The estimate is a fixed function of ``x`` (the replicate seeds are drawn
+        once), so values already computed are remembered and thresholds not yet
+        seen are integrated together in one pass.
+        """
         xs = np.atleast_1d(np.asarray(x, dtype=float))
-        reps = self._scipy_replicates(xs) if self._use_scipy else self._singular_replicates(xs)
-        value = np.clip(reps.mean(axis=0), 0.0, 1.0)
-        r = reps.shape[0]
-        error = float(stats.t.ppf(0.9985, r - 1)) * reps.std(axis=0, ddof=1) / math.sqrt(r)
-        return value, error
+        new = np.array(sorted({float(v) for v in xs} - self._memo.keys()))
+        if new.size:
+            reps = (self._scipy_replicates(new) if self._use_scipy
+                    else self._singular_replicates(new))
+            value = np.clip(reps.mean(axis=0), 0.0, 1.0)
+            r = reps.shape[0]
+            error = float(stats.t.ppf(0.9985, r - 1)) * reps.std(axis=0, ddof=1) / math.sqrt(r)
+            for v, p, e in zip(new.tolist(), value.tolist(), error.tolist()):
+                self._memo[v] = (p, e)
+        pairs = [self._memo[float(v)] for v in xs]
+        return np.array([p for p, _ in pairs]), np.array([e for _, e in pairs])
 
     def sf(self, x: np.ndarray | float) -> tuple[np.ndarray, np.ndarray]:
         """``(P(max > x), error)``."""
         value, error = self.cdf(x)
         return 1.0 - value, error
 
-    def quantile(self, prob: float) -> tuple[float, float]:
+    def quantile(self, prob: float, *, also: np.ndarray | None = None) -> tuple[float, float]:
         """The critical value ``c`` with ``P(max <= c) = prob``, and the error of P at ``c``.
 
         Bracketed by the single-test and Bonferroni critical values, which
         bound it exactly; solved by Brent's method on the fixed-seed estimate.
+        Thresholds in ``also`` (e.g. the observed statistics, for their tail
+        probabilities) are integrated in the same pass as the two brackets.
         """
         tail = 1.0 - prob
         if self.two_sided:
@@ -151,6 +165,7 @@ class MaxT:
             hi = float(stats.t.ppf(1.0 - tail / self.m, self.df))
         if self.m == 1:
             return lo, 0.0
+        self.cdf(np.concatenate([[lo, hi], [] if also is None else np.ravel(also)]))
 
         def gap(c: float) -> float:
             return float(self.cdf(c)[0][0]) - prob

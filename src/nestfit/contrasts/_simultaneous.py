@@ -306,7 +306,7 @@ def _max_t(fam: EstimatedFamily, key: str, level: float, alternative: str, t: np
     crit = np.empty(m)
     errors = []
     for i, dist in enumerate(dists):
-        c, err = dist.quantile(level)
+        c, err = dist.quantile(level, also=stat if common else stat[i:i + 1])
         errors.append(err)
         if common:
             crit[:] = c
