@@ -10,7 +10,7 @@ from nestfit import _display
 
 SRC = Path(nestfit.__file__).resolve().parent
 # Floor of each top-level part of the package (docs/architecture.md, "Floors").
-FLOORS = {"errors": 1, "_data": 1, "_decimal": 1, "_display": 1, "linalg": 2,
+FLOORS = {"errors": 1, "_data": 1, "_decimal": 1, "_decimal_numbers": 1, "_display": 1, "linalg": 2,
           "design": 3, "report": 5, "cli": 6, "_commands": 6}
 
 
