@@ -235,3 +235,17 @@ def test_adjusted_means_of_a_large_formula_fit_build_no_n_by_n_matrix() -> None:
         tracemalloc.stop()
     assert peak < 12 * design_bytes, peak / design_bytes
     assert means.estimate('"1" - "0"').df == fit.residual_df
+
+
+@pytest.mark.parametrize("variance", ["welch", "HC3"])
+def test_the_coding_of_the_separate_means_model_does_not_matter(variance: str) -> None:
+    # A contrast of level means is the same function whatever the coding (common practice,
+    # no source); its Welch-type or sandwich standard error and df must not move either.
+    data = random_layout(14, k=4)
+    models = nestfit.groups(data, "y", "g")
+    rows = []
+    for coding in ("indicator", "helmert", "reference", "deviation"):
+        e = nc.cell_means(models.separate_means(coding), variance=variance).estimate(
+            "L0 - mean(...)")
+        rows.append((e.estimate, e.std_error, e.df))
+    np.testing.assert_allclose(rows, [rows[0]] * len(rows), rtol=1e-12)
