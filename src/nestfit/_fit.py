@@ -318,34 +318,34 @@ def fit_design(
         result = fit_grouped(design, y, weights, names, rank_tol, sums)
     else:
         result = fit_dense(design, y, weights, names, rank_tol, need_constant=bool(offset))
-    if offset and not result["has_constant"]:
+    if offset and not result.has_constant:
         # The shift is not absorbed by the model: fit the shifted response itself.
         return fit_design(design, y + offset, response_name=response_name, weights=weights,
                           missing=missing, row_labels=row_labels, rank_tol=rank_tol)
-    aliased_names = tuple(n for n, a in zip(names, result["aliased"]) if a)
+    aliased_names = tuple(n for n, a in zip(names, result.aliased) if a)
     if aliased_names:
         message = (
-            f"model {design.name!r} is rank deficient (rank {result['rank']} of "
+            f"model {design.name!r} is rank deficient (rank {result.rank} of "
             f"{len(names)} columns): column(s) {', '.join(map(repr, aliased_names))} are linear "
             "combinations of the columns before them; their coefficients are not estimable"
         )
         if aliased == "raise":
             raise RankDeficientError(message + "; remove them or merge the levels involved")
         warnings.warn(message + " and are reported as NaN", RankDeficiencyWarning, stacklevel=3)
-    coefficients = result["coefficients"]
-    shift = float(result.get("shift", 0.0))
+    coefficients = result.coefficients
+    shift = float(result.shift)
     if offset or shift:
-        coefficients = coefficients + (offset + shift) * result["constant_coefficients"]
-    residual_df = design.n_rows - result["rank"]
+        coefficients = coefficients + (offset + shift) * result.constant_coefficients
+    residual_df = design.n_rows - result.rank
     if residual_df <= 0:
         warnings.warn(
-            f"model {design.name!r} has {design.n_rows} observations and rank {result['rank']}: "
+            f"model {design.name!r} has {design.n_rows} observations and rank {result.rank}: "
             "no residual degrees of freedom, so no error variance, standard errors or tests",
             ZeroResidualDfWarning,
             stacklevel=3,
         )
-    sigma2 = result["residual_ss"] / residual_df if residual_df > 0 else math.nan
-    covariance = sigma2 * result["cov_unscaled"]
+    sigma2 = result.residual_ss / residual_df if residual_df > 0 else math.nan
+    covariance = sigma2 * result.cov_unscaled
     with np.errstate(invalid="ignore"):
         std_errors = np.sqrt(np.diag(covariance))
     for arr in (coefficients, covariance, std_errors, y):
@@ -357,21 +357,21 @@ def fit_design(
         std_errors=std_errors,
         covariance=covariance,
         aliased=aliased_names,
-        rank=int(result["rank"]),
-        residual_ss=float(result["residual_ss"]),
+        rank=int(result.rank),
+        residual_ss=float(result.residual_ss),
         residual_df=int(residual_df),
-        total_ss=float(result["total_ss"]),
-        has_constant=bool(result["has_constant"]),
-        method=result["method"],
-        condition=float(result["condition"]),
+        total_ss=float(result.total_ss),
+        has_constant=bool(result.has_constant),
+        method=result.method,
+        condition=float(result.condition),
         offset=float(offset),
         missing=missing,
         y=y,
         weights=weights,
         row_labels=row_labels,
-        _group_fitted=result.get("group_fitted"),
-        _group_leverage=result.get("group_leverage"),
-        _residuals=result.get("residuals"),
-        _leverages=result.get("leverages"),
+        _group_fitted=result.group_fitted,
+        _group_leverage=result.group_leverage,
+        _residuals=result.residuals,
+        _leverages=result.leverages,
         _shift=shift,
     )

@@ -6,7 +6,7 @@
   built (see :mod:`nestfit.linalg._groups`);
 * dense: any other design through :func:`nestfit.linalg.least_squares`.
 
-Each returns the same dictionary of pieces, from which ``fit_design`` builds the
+Each returns a :class:`PathResult`, from which ``fit_design`` builds the
 ``Fit``; the tests require the two paths to agree to 1e-12 relative.
 """
 
@@ -14,20 +14,56 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
 from nestfit.design._design import Design
-from nestfit.linalg import least_squares
+from nestfit.linalg import LeastSquares, least_squares
 from nestfit.linalg._groups import GroupSums, group_sums
 
-__all__ = ["fit_dense", "fit_grouped"]
+__all__ = ["PathResult", "fit_dense", "fit_grouped"]
 
 # A column space contains the constant vector when the least-squares residual of
 # 1 on X is below this fraction of ||1||^2 = n (relative squared residual).
 # Common practice, no source.
 _CONSTANT_TOL = 1e-16
+
+
+@dataclass(frozen=True)
+class PathResult:
+    """What a fitting path hands to ``fit_design``.
+
+    ``coefficients`` are for ``y`` less the path's ``shift``;
+    ``constant_coefficients`` express the constant vector in the design's
+    columns (to add a shift or offset back). The grouped path gives fitted
+    values and leverages per level (``group_fitted``, ``group_leverage``), the
+    dense path per observation (``residuals``, ``leverages``).
+    """
+
+    coefficients: np.ndarray
+    constant_coefficients: np.ndarray
+    aliased: np.ndarray
+    rank: int
+    residual_ss: float
+    cov_unscaled: np.ndarray
+    total_ss: float
+    has_constant: bool
+    method: str
+    condition: float
+    group_fitted: np.ndarray | None = None
+    group_leverage: np.ndarray | None = None
+    residuals: np.ndarray | None = None
+    leverages: np.ndarray | None = None
+    shift: float = 0.0
+
+
+def _from_solution(ls: LeastSquares, **pieces: Any) -> PathResult:
+    """A PathResult whose coefficients, aliasing, rank, covariance and condition are ``ls``'s."""
+    return PathResult(coefficients=np.array(ls.coefficients, dtype=float), aliased=ls.aliased,
+                      rank=ls.rank, cov_unscaled=np.array(ls.cov_unscaled, dtype=float),
+                      condition=ls.condition, **pieces)
 
 
 def _accurate_sum(values: np.ndarray) -> float:
@@ -37,7 +73,7 @@ def _accurate_sum(values: np.ndarray) -> float:
 def fit_grouped(
     design: Design, y: np.ndarray, weights: np.ndarray | None, names: Sequence[str],
     rank_tol: float | None, sums: GroupSums | None,
-) -> dict[str, Any]:
+) -> PathResult:
     assert design.groups is not None
     factor, coding = design.groups.factor, design.groups.coding
     if sums is None:
@@ -61,21 +97,12 @@ def fit_grouped(
         total = within + between
     else:
         total = _weighted_square_sum(y, weights)
-    return {
-        "coefficients": np.array(small.coefficients, dtype=float),
-        "constant_coefficients": np.nan_to_num(np.asarray(const.coefficients, dtype=float)),
-        "aliased": small.aliased,
-        "rank": small.rank,
-        "residual_ss": within + small.residual_ss,
-        "cov_unscaled": np.array(small.cov_unscaled, dtype=float),
-        "total_ss": total,
-        "has_constant": has_constant,
-        "method": "grouped",
-        "condition": small.condition,
-        "group_fitted": np.array(small.fitted, dtype=float),
-        "group_leverage": np.array(small.leverages, dtype=float),
-        "shift": sums.shift,
-    }
+    return _from_solution(
+        small, residual_ss=within + small.residual_ss, total_ss=total,
+        has_constant=has_constant, method="grouped",
+        constant_coefficients=np.nan_to_num(np.asarray(const.coefficients, dtype=float)),
+        group_fitted=np.array(small.fitted, dtype=float),
+        group_leverage=np.array(small.leverages, dtype=float), shift=sums.shift)
 
 
 def _block_indicator(coding: np.ndarray) -> np.ndarray | None:
@@ -88,7 +115,7 @@ def _block_indicator(coding: np.ndarray) -> np.ndarray | None:
     return block_of
 
 
-def _fit_block_indicator(block_of: np.ndarray, p: int, sums: GroupSums) -> dict[str, Any]:
+def _fit_block_indicator(block_of: np.ndarray, p: int, sums: GroupSums) -> PathResult:
     """Closed form for block-indicator codings (equal means, partitions, cell means).
 
     The columns are orthogonal indicators, so ``X'WX = diag(W_b)``: the coefficient
@@ -107,27 +134,19 @@ def _fit_block_indicator(block_of: np.ndarray, p: int, sums: GroupSums) -> dict[
     grand = _accurate_sum(w * sums.means) / _accurate_sum(w)
     between = _accurate_sum(w * (sums.means - grand) ** 2)
     within = sums.total_within_ss
-    return {
-        "coefficients": block_mean,
-        "constant_coefficients": np.ones(p),
-        "aliased": np.zeros(p, dtype=bool),
-        "rank": p,
-        "residual_ss": within + lack,
-        "cov_unscaled": np.diag(1.0 / block_w),
-        "total_ss": within + between,
-        "has_constant": True,
-        "method": "grouped",
-        "condition": 1.0,  # orthogonal columns: the column-scaled design is perfectly conditioned
-        "group_fitted": fitted,
-        "group_leverage": w / block_w[block_of],
-        "shift": sums.shift,
-    }
+    return PathResult(
+        coefficients=block_mean, constant_coefficients=np.ones(p),
+        aliased=np.zeros(p, dtype=bool), rank=p, residual_ss=within + lack,
+        cov_unscaled=np.diag(1.0 / block_w), total_ss=within + between, has_constant=True,
+        method="grouped",
+        condition=1.0,  # orthogonal columns: the column-scaled design is perfectly conditioned
+        group_fitted=fitted, group_leverage=w / block_w[block_of], shift=sums.shift)
 
 
 def fit_dense(
     design: Design, y: np.ndarray, weights: np.ndarray | None, names: Sequence[str],
     rank_tol: float | None, *, need_constant: bool,
-) -> dict[str, Any]:
+) -> PathResult:
     X = design.to_dense()
     ls = least_squares(X, y, weights=weights, rank_tol=rank_tol, column_names=names, warn=False)
     # The solver centres y exactly when the constant lies in the column space.
@@ -147,20 +166,11 @@ def fit_dense(
         total = _weighted_square_sum(np.subtract(y, mean, out=dev), weights)
     else:
         total = _weighted_square_sum(y, weights)
-    return {
-        "coefficients": np.array(ls.coefficients, dtype=float),
-        "constant_coefficients": constant_coefficients,
-        "aliased": ls.aliased,
-        "rank": ls.rank,
-        "residual_ss": ls.residual_ss,
-        "cov_unscaled": np.array(ls.cov_unscaled, dtype=float),
-        "total_ss": total,
-        "has_constant": has_constant,
-        "method": "dense QR",
-        "condition": ls.condition,
-        "residuals": np.array(ls.residuals, dtype=float),
-        "leverages": np.array(ls.leverages, dtype=float),
-    }
+    return _from_solution(
+        ls, residual_ss=ls.residual_ss, total_ss=total, has_constant=has_constant,
+        method="dense QR", constant_coefficients=constant_coefficients,
+        residuals=np.array(ls.residuals, dtype=float),
+        leverages=np.array(ls.leverages, dtype=float))
 
 
 def _constant_column(X: np.ndarray) -> np.ndarray | None:
