@@ -151,3 +151,13 @@ def test_bad_variance_option(capsys: pytest.CaptureFixture[str], fill_csv: str) 
             "H1 - H2", "--variance", "robust")
     assert info.value.code == 2
     assert "invalid choice: 'robust'" in capsys.readouterr().err
+
+
+def test_welch_with_a_single_observation_level_is_one_line(capsys: pytest.CaptureFixture[str],
+                                                            tmp_path: Path) -> None:
+    path = tmp_path / "one.csv"
+    path.write_text("g,y\nA,1\nA,2\nA,3\nB,4\nB,6\nC,5\n", encoding="utf-8")
+    status, out, err = run(capsys, str(path), "--response", "y", "--factor", "g", "--family",
+                           "pairs", "--variance", "welch")
+    assert status == 1 and out == ""
+    assert err.count("\n") == 1 and "level 'C' of 'g' has 1" in err
