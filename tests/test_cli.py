@@ -8,12 +8,7 @@ from pathlib import Path
 import pytest
 
 from nestfit.cli import main
-
-
-def run(argv: list[str], capsys: pytest.CaptureFixture) -> tuple[int, str, str]:
-    code = main(argv)
-    out, err = capsys.readouterr()
-    return code, out, err
+from tests.cli import run_cli as run
 
 
 @pytest.fixture

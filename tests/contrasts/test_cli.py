@@ -11,21 +11,17 @@ import pytest
 
 import nestfit
 from nestfit import contrasts as nc
-from nestfit.cli import main
+from tests.cli import run_cli, write_fill_csv
 
 
 @pytest.fixture
 def fill_csv(tmp_path: Path) -> str:
     """The invented fill-weight demo data as a CSV file."""
-    path = tmp_path / "fill.csv"
-    nestfit.datasets.load_fill_weights().to_csv(path, index=False)
-    return str(path)
+    return str(write_fill_csv(tmp_path))
 
 
 def run(capsys: pytest.CaptureFixture[str], *args: str) -> tuple[int, str, str]:
-    status = main(["contrasts", *args])
-    out, err = capsys.readouterr()
-    return status, out, err
+    return run_cli(["contrasts", *args], capsys)
 
 
 def test_text_output(capsys: pytest.CaptureFixture[str], fill_csv: str) -> None:

@@ -8,22 +8,15 @@ from pathlib import Path
 import pytest
 
 import nestfit
-from nestfit.cli import main
+from tests.cli import run_cli as run
+from tests.cli import write_fill_csv
 from tests.report.helpers import close_to_printed, headings, markdown_table
-
-
-def run(argv: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[int, str, str]:
-    code = main(argv)
-    out, err = capsys.readouterr()
-    return code, out, err
 
 
 @pytest.fixture
 def csv(tmp_path: Path) -> Path:
     """The bundled invented fill-weight data as a CSV file."""
-    path = tmp_path / "fill.csv"
-    nestfit.datasets.load_fill_weights().to_csv(path, index=False)
-    return path
+    return write_fill_csv(tmp_path)
 
 
 def test_report_markdown_with_contrasts(csv: Path, tmp_path: Path,

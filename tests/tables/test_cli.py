@@ -11,13 +11,8 @@ import pytest
 
 import nestfit.tables as tables
 from nestfit.cli import main
+from tests.cli import run_cli as run
 from tests.tables.helpers import rel, unbalanced
-
-
-def run(argv: list[str], capsys: pytest.CaptureFixture) -> tuple[int, str, str]:
-    code = main(argv)
-    out, err = capsys.readouterr()
-    return code, out, err
 
 
 @pytest.fixture
