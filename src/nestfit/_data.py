@@ -149,26 +149,46 @@ def clean_columns(
         frame[name] = converted.astype(float)
         values = frame[name].to_numpy()
         if np.isinf(values).any():
-            where = frame.index[np.isinf(values)][0]
-            raise DataError(
-                f"column {name!r} has an infinite value (row {where!r}); "
-                "remove or correct it: no least-squares result is meaningful with it"
-            )
-    miss_cols = {c: _is_missing(frame[c]) for c in used}
-    any_miss = np.zeros(len(frame), dtype=bool)
-    for m in miss_cols.values():
-        any_miss |= m
-    counts = {c: int(m.sum()) for c, m in miss_cols.items() if m.any()}
-    if any_miss.any() and policy == "raise":
+            raise _infinite(name, frame.index[np.isinf(values)][0])
+    any_miss, report = _apply_policy({c: _is_missing(frame[c]) for c in used}, len(frame),
+                                     policy)
+    if any_miss is not None:
+        frame = frame.loc[~any_miss]
+    return frame, report
+
+
+def _infinite(name: str, where: Any) -> DataError:
+    return DataError(
+        f"column {name!r} has an infinite value (row {where!r}); "
+        "remove or correct it: no least-squares result is meaningful with it"
+    )
+
+
+def _apply_policy(miss_cols: Mapping[str, np.ndarray | None], n: int,
+                  policy: MissingPolicy) -> tuple[np.ndarray | None, MissingReport]:
+    """The rows missing in any used column (None when there are none) and the report.
+
+    Raises
+    ------
+    DataError
+        Missing values under ``missing="raise"``, or no rows left after dropping.
+    """
+    any_miss: np.ndarray | None = None
+    counts: dict[str, int] = {}
+    for c, m in miss_cols.items():
+        if m is None or not m.any():
+            continue
+        counts[c] = int(m.sum())
+        any_miss = m.copy() if any_miss is None else any_miss | m
+    if any_miss is not None and policy == "raise":
         cols = ", ".join(f"{c} ({k})" for c, k in counts.items())
         raise DataError(
             f"missing values in column(s) {cols}; drop those rows or pass missing='drop'"
         )
-    report = MissingReport(len(frame), int(any_miss.sum()), counts)
-    frame = frame.loc[~any_miss]
-    if len(frame) == 0:
+    report = MissingReport(n, 0 if any_miss is None else int(any_miss.sum()), counts)
+    if report.n_dropped == n:
         raise DataError(f"no rows left after dropping missing values ({report})")
-    return frame, report
+    return any_miss, report
 
 
 def _missing_categorical(cat: Any) -> np.ndarray:
@@ -247,11 +267,7 @@ def clean_arrays(
         if col.dtype.kind == "f" and not np.isfinite(columns[name]).all():
             inf = np.isinf(col)
             if inf.any():
-                where = int(np.flatnonzero(inf)[0])
-                raise DataError(
-                    f"column {name!r} has an infinite value (row {where!r}); "
-                    "remove or correct it: no least-squares result is meaningful with it"
-                )
+                raise _infinite(name, int(np.flatnonzero(inf)[0]))
             miss_cols[name] = np.isnan(col)
         else:
             miss_cols[name] = None
@@ -267,23 +283,7 @@ def clean_arrays(
             miss_cols[name] = np.isnan(lab)
         else:
             miss_cols[name] = None
-    any_miss: np.ndarray | None = None
-    counts: dict[str, int] = {}
-    for c in used:
-        m = miss_cols[c]
-        if m is None or not m.any():
-            continue
-        counts[c] = int(m.sum())
-        any_miss = m.copy() if any_miss is None else any_miss | m
-    if any_miss is not None and policy == "raise":
-        cols = ", ".join(f"{c} ({k})" for c, k in counts.items())
-        raise DataError(
-            f"missing values in column(s) {cols}; drop those rows or pass missing='drop'"
-        )
-    dropped = 0 if any_miss is None else int(any_miss.sum())
-    report = MissingReport(n, dropped, counts)
-    if n - dropped == 0:
-        raise DataError(f"no rows left after dropping missing values ({report})")
+    any_miss, report = _apply_policy({c: miss_cols[c] for c in used}, n, policy)
     if any_miss is None:
         # own copies of the caller's arrays (a Categorical's codes are recoded anyway)
         kept = {c: (v.copy() if v is columns[c] and isinstance(v, np.ndarray) else v)
