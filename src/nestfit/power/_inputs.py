@@ -13,7 +13,7 @@ from nestfit.design._partition import Partition
 from nestfit.errors import DataError
 
 __all__ = ["allocated_sizes", "as_count", "block_means", "is_count", "model_name",
-           "read_allocation", "read_means", "read_partition", "read_sigma"]
+           "read_allocation", "read_means", "read_partition", "read_sigma", "whole"]
 
 #: Relative tolerance within which ``m * r_i / min(r)`` counts as a whole number.
 ROUNDING_TOLERANCE = 1e-9
@@ -148,10 +148,11 @@ def allocated_sizes(m: int, ratios: tuple[float, ...]) -> tuple[int, ...]:
     give exactly ``3 m`` rather than one more or less. Every ``n_i`` is
     non-decreasing in ``m``.
     """
-    sizes = []
-    for q in ratios:
-        x = m * q
-        nearest = round(x)
-        sizes.append(int(nearest) if abs(x - nearest) <= ROUNDING_TOLERANCE * max(1.0, x)
-                     else math.ceil(x))
-    return tuple(sizes)
+    sizes = [(whole(m * q), m * q) for q in ratios]
+    return tuple(n if n is not None else math.ceil(x) for n, x in sizes)
+
+
+def whole(x: float) -> int | None:
+    """``x`` as a whole number when it is one within a relative ``ROUNDING_TOLERANCE``."""
+    nearest = round(x)
+    return int(nearest) if abs(x - nearest) <= ROUNDING_TOLERANCE * max(1.0, x) else None

@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING, Any
 
 from nestfit.checks._result import check_alpha
 from nestfit.errors import DataError
-from nestfit.power._inputs import ROUNDING_TOLERANCE, allocated_sizes, is_count, read_allocation
+from nestfit.power._inputs import allocated_sizes, is_count, read_allocation, whole
 from nestfit.power._results import GroupSize, PowerResult
 
 if TYPE_CHECKING:
@@ -48,8 +48,7 @@ def _always_rising(plan: PowerPlan, ratios: tuple[float, ...] | None) -> bool:
     """
     if ratios is None or plan.kind != "comparison":
         return True
-    low = min(ratios)
-    if all(abs(r / low - round(r / low)) <= ROUNDING_TOLERANCE * r / low for r in ratios):
+    if all(whole(q) is not None for q in ratios):  # ratios are divided by the smallest
         return True
     return plan.larger is not None and plan.larger.n_blocks == plan.n_levels
 
