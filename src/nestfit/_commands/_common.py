@@ -74,9 +74,11 @@ def family_from_args(args: argparse.Namespace) -> Any:
 
 def add_variance(parser: argparse.ArgumentParser) -> None:
     """The ``--variance pooled|welch|HC0|HC1|HC2|HC3`` option of the contrast commands."""
+    from nestfit.contrasts import VARIANCES
+
     parser.add_argument(
-        "--variance", default="pooled", type=lambda v: v.upper() if v.upper().startswith("HC")
-        else v.lower(), choices=["pooled", "welch", "HC0", "HC1", "HC2", "HC3"],
+        "--variance", default="pooled", choices=VARIANCES,
+        type=lambda v: next((k for k in VARIANCES if k.lower() == v.lower()), v),
         help="standard errors of the contrasts: pooled residual mean square (default), welch "
              "(each level's own variance, Satterthwaite df per contrast; with --adjust tukey "
              "this is Games-Howell), or a heteroscedasticity-consistent sandwich HC0-HC3")

@@ -39,10 +39,12 @@ from nestfit.contrasts._family import EstimatedFamily
 from nestfit.contrasts._grouping import Grouping
 from nestfit.contrasts._result import ContrastRow, FamilyResult
 from nestfit.contrasts._simultaneous import METHODS
+from nestfit.contrasts._variance import VARIANCES
 
 __all__ = [
     "METHODS",
     "P_METHODS",
+    "VARIANCES",
     "CellMeans",
     "Contrast",
     "ContrastEstimate",

@@ -71,9 +71,9 @@ _HC_ASSUMPTION = ("independent observations; the error variance may differ betwe
 
 def check_variance(variance: object) -> str:
     """The canonical key of ``variance`` (case-insensitive for the HC kinds)."""
-    key = variance.strip() if isinstance(variance, str) else ""
-    key = key.upper() if key.upper().startswith("HC") else key.lower()
-    if key not in VARIANCES:
+    text = variance.strip().lower() if isinstance(variance, str) else ""
+    key = next((k for k in VARIANCES if k.lower() == text), "")
+    if not key:
         raise ContrastError(f"variance must be one of {', '.join(VARIANCES)}. Got "
                             f"{variance!r} instead.")
     return key
