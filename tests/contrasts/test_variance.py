@@ -249,3 +249,12 @@ def test_the_coding_of_the_separate_means_model_does_not_matter(variance: str) -
             "L0 - mean(...)")
         rows.append((e.estimate, e.std_error, e.df))
     np.testing.assert_allclose(rows, [rows[0]] * len(rows), rtol=1e-12)
+
+
+def test_welch_contrast_of_levels_without_spread_is_refused() -> None:
+    fit = nestfit.groups(y=[1.0, 1, 1, 2, 2, 2, 3, 4, 5], factor=list("AAABBBCCC")).separate_means()
+    means = nc.cell_means(fit, variance="welch")
+    with pytest.raises(ContrastError, match="has zero variance in model 'separate means'"):
+        means.estimate("A - B")
+    with pytest.raises(ContrastError, match="levels in the contrast have no spread"):
+        means.df_for(np.array([1.0, -1.0, 0.0]))

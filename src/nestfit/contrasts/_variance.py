@@ -118,7 +118,7 @@ class VarianceSource:
             return self.residual_df
         try:
             return welch_contrast_se(weights, self.group_variances, self.counts)[1]
-        except NestfitError as exc:  # pragma: no cover - excluded when the source is built
+        except NestfitError as exc:
             raise ContrastError(str(exc)) from None
 
 
