@@ -126,10 +126,8 @@ class ContrastEstimate:
         """``c' (X'WX)^- c`` (``sum w_i^2 / n_i`` for separate means): the pooled ``se^2 /
         sigma^2``, whatever the variance choice."""
         assert self._means is not None
-        if self.variance == "pooled":
-            return self.std_error ** 2 / self._means.fit.mean_square
-        return self._means.value_and_variance(self.coefficients, pooled=True)[1] / \
-            self._means.fit.mean_square
+        pooled = self._means.value_and_variance(self.coefficients, pooled=True)[1]
+        return pooled / self._means.fit.mean_square
 
     @property
     def ss(self) -> float:
